@@ -1,0 +1,12 @@
+"""Exact crystal optics: plane-wave eigenmodes, interface solver, thin layers, sequential tracer."""
+from .eigenmodes import extraordinary_index, plane_wave_modes
+from .interface import MODE_ORDER, InterfaceResult, solve_interface
+from .system import (CircularAperture, FixedIndices, Medium, RectangularAperture,
+                     SequentialSystem, Surface, optic_axis_from_angles)
+from .thin_layer import ThinLayer
+from .tracer import Beam, TraceFlag, TraceResult, trace
+
+__all__ = ["extraordinary_index", "plane_wave_modes", "MODE_ORDER", "InterfaceResult",
+           "solve_interface", "CircularAperture", "FixedIndices", "Medium", "RectangularAperture",
+           "SequentialSystem", "Surface", "optic_axis_from_angles", "ThinLayer", "Beam",
+           "TraceFlag", "TraceResult", "trace"]

@@ -1,0 +1,205 @@
+"""Sequential optical systems: media, plane surfaces with apertures, and thin layers."""
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .thin_layer import ThinLayer
+from .vectors import as_unit_vectors, cross, dot
+
+__all__ = ["FixedIndices", "Medium", "CircularAperture", "RectangularAperture", "Surface",
+           "SequentialSystem", "optic_axis_from_angles"]
+
+
+@dataclass(frozen=True)
+class FixedIndices:
+    """A medium with wavelength-independent indices (tests, quick studies, index-matching fluids).
+
+    Parameters
+    ----------
+    n_o : float
+        Ordinary (or the only) index.
+    n_e : float, optional
+        Extraordinary index; omitted for an isotropic medium.
+    name : str
+    """
+
+    n_o: float
+    n_e: float | None = None
+    name: str = "fixed index"
+
+    def __post_init__(self):
+        for key in ("n_o", "n_e"):
+            value = getattr(self, key)
+            if value is not None and not (np.isfinite(value) and value > 0):
+                raise ValueError(f"FixedIndices {key} must be a positive finite index, got {value!r}")
+
+    @property
+    def kind(self):
+        return "isotropic" if self.n_e is None or self.n_e == self.n_o else "uniaxial"
+
+    def indices(self, wavelength_um, temperature_c=None):
+        shape = np.shape(wavelength_um)
+        n_o = np.full(shape, float(self.n_o))
+        n_e = np.full(shape, float(self.n_o if self.n_e is None else self.n_e))
+        return n_o, n_e
+
+
+def optic_axis_from_angles(polar_deg, azimuth_deg):
+    """Unit optic axis from its polar angle from z and azimuth from x (degrees).
+
+    Parameters
+    ----------
+    polar_deg, azimuth_deg : array_like
+        Angles in degrees; broadcast.
+
+    Returns
+    -------
+    ndarray, shape (..., 3)
+    """
+    theta = np.deg2rad(np.asarray(polar_deg, dtype=float))
+    phi = np.deg2rad(np.asarray(azimuth_deg, dtype=float))
+    return np.stack(np.broadcast_arrays(np.sin(theta) * np.cos(phi), np.sin(theta) * np.sin(phi),
+                                        np.cos(theta)), axis=-1)
+
+
+@dataclass(frozen=True)
+class Medium:
+    """A region of a sequential system: a material and, for a crystal, its optic axis.
+
+    Parameters
+    ----------
+    material : object
+        Anything with ``indices(wavelength_um, temperature_c=None) -> (n_o, n_e)`` and a
+        ``name``: a library material, :class:`FixedIndices`, ...
+    optic_axis : array_like, shape (3,) or (..., 3), optional
+        Unit optic axis in the global frame; required for uniaxial materials. May carry
+        leading axes (e.g. Monte Carlo samples) that broadcast against the rays.
+    temperature_c : float, optional
+        Temperature of this medium in °C; None means the data temperature.
+    """
+
+    material: object
+    optic_axis: object = None
+    temperature_c: float | None = None
+
+    def __post_init__(self):
+        kind = getattr(self.material, "kind", None)
+        if self.optic_axis is None:
+            if kind == "uniaxial":
+                name = getattr(self.material, "name", "material")
+                raise ValueError(f"medium of uniaxial material {name!r} needs an optic_axis (unit 3-vector)")
+        else:
+            object.__setattr__(self, "optic_axis", as_unit_vectors(self.optic_axis, "optic_axis"))
+
+    @property
+    def name(self):
+        return getattr(self.material, "name", "medium")
+
+    @property
+    def is_crystal(self):
+        """True for a birefringent medium (uniaxial material with an optic axis)."""
+        return self.optic_axis is not None and getattr(self.material, "kind", "uniaxial") != "isotropic"
+
+    def indices(self, wavelength_um):
+        """(n_o, n_e) at the given wavelengths (µm); equal for isotropic media."""
+        return self.material.indices(wavelength_um, self.temperature_c)
+
+
+@dataclass(frozen=True)
+class CircularAperture:
+    """Circular clear aperture of radius `radius_mm` about the surface point."""
+
+    radius_mm: float
+
+    def contains(self, points_mm, surface):
+        offset = points_mm - surface.point_mm
+        radial = offset - dot(offset, surface.normal)[..., None] * surface.normal
+        return dot(radial, radial) <= self.radius_mm ** 2
+
+
+@dataclass(frozen=True)
+class RectangularAperture:
+    """Rectangular clear aperture centred on the surface point.
+
+    Parameters
+    ----------
+    half_width_mm : float
+        Half extent along `width_direction` (projected into the surface).
+    half_height_mm : float
+        Half extent along normal × width_direction.
+    width_direction : array_like, shape (3,)
+        A direction in (or projected into) the surface plane.
+    """
+
+    half_width_mm: float
+    half_height_mm: float
+    width_direction: tuple = (1.0, 0.0, 0.0)
+
+    def contains(self, points_mm, surface):
+        n = surface.normal
+        w = np.asarray(self.width_direction, dtype=float)
+        w = w - dot(w, n) * n
+        w = w / np.sqrt(dot(w, w))
+        h = cross(n, w)
+        offset = points_mm - surface.point_mm
+        return ((np.abs(dot(offset, w)) <= self.half_width_mm * (1 + 1e-12))
+                & (np.abs(dot(offset, h)) <= self.half_height_mm * (1 + 1e-12)))
+
+
+@dataclass(frozen=True)
+class Surface:
+    """A plane surface of a sequential system.
+
+    Parameters
+    ----------
+    point_mm : array_like, shape (3,)
+        A point on the plane (mm).
+    normal : array_like, shape (3,)
+        Plane normal (normalised here; its sign does not matter).
+    aperture : CircularAperture or RectangularAperture, optional
+        Rays meeting the plane outside it are flagged, not dropped.
+    layer : ThinLayer, optional
+        Coherent thin isotropic layer at this surface (cement film, narrow air gap).
+    label : str
+    """
+
+    point_mm: object
+    normal: object
+    aperture: object = None
+    layer: ThinLayer | None = None
+    label: str = ""
+
+    def __post_init__(self):
+        point = np.asarray(self.point_mm, dtype=float)
+        if point.shape != (3,) or not np.all(np.isfinite(point)):
+            raise ValueError(f"surface point_mm must be three finite numbers, got {self.point_mm!r}")
+        object.__setattr__(self, "point_mm", point)
+        object.__setattr__(self, "normal", as_unit_vectors(self.normal, "surface normal"))
+
+
+@dataclass(frozen=True)
+class SequentialSystem:
+    """Ordered surfaces with the medium before the first and after each surface.
+
+    Parameters
+    ----------
+    media : sequence of Medium
+        ``len(media) == len(surfaces) + 1``; media[i] precedes surfaces[i].
+    surfaces : sequence of Surface
+    """
+
+    media: tuple
+    surfaces: tuple
+    label: str = ""
+    notes: dict = field(default_factory=dict)
+
+    def __post_init__(self):
+        object.__setattr__(self, "media", tuple(self.media))
+        object.__setattr__(self, "surfaces", tuple(self.surfaces))
+        if len(self.media) != len(self.surfaces) + 1:
+            raise ValueError(f"a sequential system needs one more medium than surfaces, got "
+                             f"{len(self.media)} media for {len(self.surfaces)} surfaces")
+        if not self.surfaces:
+            raise ValueError("a sequential system needs at least one surface")
+        if self.media[0].is_crystal:
+            raise ValueError("the first medium must be isotropic: rays start outside the crystals")
