@@ -5,24 +5,38 @@ the two transmitted and two reflected eigenwaves: wave vectors (real or evanesce
 directions, unit fields E and H, complex amplitude coefficients and power fractions (normal
 energy flux). Everything is batched over the leading axes.
 
-Method: the tangential wave vector is conserved; each medium's normal components follow from
-:func:`~prismdesign.optics.eigenmodes.normal_components`; continuity of tangential E and H gives
-four linear equations for the four unknown amplitudes (Born & Wolf, *Principles of Optics*,
-§1.5 and §15.3; Yariv & Yeh, *Optical Waves in Crystals*, §4.7). An optional coherent thin layer
-at the interface enters through its transfer matrix (:mod:`.thin_layer`).
+Method: the tangential wave vector is conserved; each medium's normal components follow from its
+dispersion relation (:func:`~prismdesign.optics.eigenmodes.normal_components`); continuity of
+tangential E and H gives four linear equations for the four unknown amplitudes (Born & Wolf,
+*Principles of Optics*, §1.5 and §15.3; Yariv & Yeh, *Optical Waves in Crystals*, §4.7). An
+optional coherent thin layer at the interface enters through its transfer matrix
+(:mod:`.thin_layer`).
+
+Speed: the solve works in the local frame (û₁ along the tangential wave vector, û₂ = N̂ × û₁, N̂)
+where k = (κ, 0, q) and every cross product collapses to a few products; arrays are
+component-wise and contiguous, processed in cache-sized blocks, and real-valued unless a wave is
+evanescent or a layer is present. Global-frame vectors are formed only when asked for.
 """
+import os
+from concurrent.futures import ThreadPoolExecutor
+
 import numpy as np
 
-from .eigenmodes import mode_fields, normal_components
-from .linear4 import solve4
+from .eigenmodes import DEGENERATE_AXIS_TOLERANCE, normal_components
+from .linear4 import solve4_components
 from .thin_layer import layer_transfer_matrix
 from .vectors import cross, dot, normalize
 
-__all__ = ["InterfaceResult", "solve_interface", "MODE_ORDER"]
+__all__ = ["InterfaceResult", "solve_interface", "MODE_ORDER", "BLOCK_SIZE"]
 
 #: Order of the outgoing waves on the mode axis: transmitted o, transmitted e, reflected o,
 #: reflected e. In an isotropic medium "o" is the s-wave and "e" the p-wave.
 MODE_ORDER = ("to", "te", "ro", "re")
+
+#: Rays per block: keeps the working arrays of one block inside the CPU cache.
+BLOCK_SIZE = 4096
+
+_WORKERS = min(os.cpu_count() or 1, 8)
 
 
 class InterfaceResult:
@@ -30,12 +44,6 @@ class InterfaceResult:
 
     Attributes
     ----------
-    wave_vector : complex ndarray, shape (..., 4, 3)
-        Wave vectors in units of k0 (complex where evanescent).
-    ray_direction : ndarray, shape (..., 4, 3)
-        Unit Poynting directions (for evanescent waves the tangential energy direction).
-    e_field, h_field : complex ndarray, shape (..., 4, 3)
-        Unit electric field (hermitian norm 1) and H = k × E of each wave.
     coefficient : complex ndarray, shape (..., 4)
         Amplitude of each wave's unit field produced by the incident field as given.
     power_fraction : ndarray, shape (..., 4)
@@ -46,13 +54,51 @@ class InterfaceResult:
         True where the boundary equations were singular (grazing incidence); outputs are zero.
     normal : ndarray, shape (..., 3)
         The surface normal actually used, oriented along the incident energy flow.
+    normal_component : complex ndarray, shape (..., 4)
+        q = k·N̂ of each wave.
+    wave_vector, ray_direction, e_field, h_field : properties, shape (..., 4, 3)
+        Global-frame wave vectors (units of k0; complex where evanescent), unit Poynting
+        directions (tangential for evanescent waves), unit electric fields (hermitian norm 1)
+        and H = k × E.
     """
-    __slots__ = ("wave_vector", "ray_direction", "e_field", "h_field", "coefficient",
-                 "power_fraction", "evanescent", "singular", "normal")
+    __slots__ = ("coefficient", "power_fraction", "evanescent", "singular", "normal",
+                 "normal_component", "_u1", "_u2", "_kappa", "_local_e", "_cache")
 
     def __init__(self, **values):
         for key, value in values.items():
             setattr(self, key, value)
+        self._cache = {}
+
+    def _to_global(self, local):
+        return (local[..., 0:1] * self._u1[..., None, :] + local[..., 1:2] * self._u2[..., None, :]
+                + local[..., 2:3] * self.normal[..., None, :])
+
+    @property
+    def wave_vector(self):
+        if "k" not in self._cache:
+            kappa = np.broadcast_to(self._kappa[..., None], self.normal_component.shape)
+            local = np.stack([kappa.astype(complex), np.zeros_like(self.normal_component),
+                              self.normal_component], axis=-1)
+            self._cache["k"] = self._to_global(local)
+        return self._cache["k"]
+
+    @property
+    def e_field(self):
+        if "e" not in self._cache:
+            self._cache["e"] = self._to_global(self._local_e)
+        return self._cache["e"]
+
+    @property
+    def h_field(self):
+        if "h" not in self._cache:
+            self._cache["h"] = cross(self.wave_vector, self.e_field)
+        return self._cache["h"]
+
+    @property
+    def ray_direction(self):
+        if "s" not in self._cache:
+            self._cache["s"] = normalize(np.real(cross(self.e_field, np.conj(self.h_field))))
+        return self._cache["s"]
 
     @property
     def total_internal_reflection(self):
@@ -60,23 +106,123 @@ class InterfaceResult:
         return self.evanescent[..., 0] & self.evanescent[..., 1]
 
 
-def _tangential_basis(k_tangential, normal):
-    """Unit û₁ along k_t (or any tangential direction at normal incidence) and û₂ = N̂ × û₁."""
-    u1 = normalize(k_tangential)
-    at_normal = dot(u1, u1) < 0.5
-    if np.any(at_normal):
-        ref = np.zeros(normal.shape)
-        along_x = np.abs(normal[..., 0]) > 0.9
-        ref[..., 0] = ~along_x
-        ref[..., 1] = along_x
-        alt = normalize(ref - dot(ref, normal)[..., None] * normal)
-        u1 = np.where(at_normal[..., None], alt, u1)
-    return u1, cross(normal, u1)
+def _local_fields(q, kappa, n_o, n_e, cx, cy, cz, mode):
+    """Unnormalised eigenfields of waves k = (κ, 0, q) in the local frame.
+
+    D_o = k × ĉ (or û₂ when k ∥ ĉ), D_e = k × D_o, E = ε⁻¹ D (see :mod:`.eigenmodes`).
+    Returns the three components of E.
+    """
+    dx = -q * cy
+    dy = q * cx - kappa * cz
+    dz = kappa * cy
+    size2 = (dx * dx.conjugate() + dy * dy.conjugate() + dz * dz.conjugate()).real
+    k2 = kappa * kappa + (q * q.conjugate()).real
+    degenerate = size2 < (DEGENERATE_AXIS_TOLERANCE ** 2) * k2
+    if degenerate.any():
+        dx = np.where(degenerate, 0.0, dx)
+        dy = np.where(degenerate, 1.0, dy)
+        dz = np.where(degenerate, 0.0, dz)
+    if mode == "o":
+        return dx, dy, dz
+    ex = -q * dy
+    ey = q * dx - kappa * dz
+    ez = kappa * dy
+    inv_no2 = 1.0 / (n_o * n_o)
+    gamma = (1.0 / (n_e * n_e) - inv_no2) * (cx * ex + cy * ey + cz * ez)
+    return ex * inv_no2 + gamma * cx, ey * inv_no2 + gamma * cy, ez * inv_no2 + gamma * cz
 
 
-def _flux(e_field, h_field, normal):
-    """Time-averaged normal energy flux Re(E × H*)·N̂ (common factor ½ dropped)."""
-    return dot(np.real(cross(e_field, np.conj(h_field))), normal)
+def _solve_block(k_in, e_in, normal, n_o1, n_e1, c1, n_o2, n_e2, c2, layer):
+    """Solve one block of rays; all inputs are contiguous component-first arrays (3, m)."""
+    kx, ky, kz = k_in
+    ex, ey, ez = e_in
+    nx, ny, nz = normal
+    # Orient N̂ along the incident energy flow: S·N̂ = (k·N̂)|E|² − Re((E*·N̂)(E·k)).
+    k_n = kx * nx + ky * ny + kz * nz
+    e2 = (ex * ex.conjugate() + ey * ey.conjugate() + ez * ez.conjugate()).real
+    flux_sign = k_n * e2 - ((ex.conjugate() * nx + ey.conjugate() * ny + ez.conjugate() * nz)
+                            * (ex * kx + ey * ky + ez * kz)).real
+    flip = np.where(flux_sign < 0, -1.0, 1.0)
+    nx, ny, nz, k_n = nx * flip, ny * flip, nz * flip, k_n * flip
+    tx, ty, tz = kx - k_n * nx, ky - k_n * ny, kz - k_n * nz
+    kappa = np.sqrt(tx * tx + ty * ty + tz * tz)
+    at_normal = kappa < 1e-12
+    if at_normal.any():
+        # Any tangential direction will do: project x̂ (or ŷ) into the surface.
+        along_x = np.abs(nx) > 0.9
+        rx, ry = np.where(along_x, 0.0, 1.0), np.where(along_x, 1.0, 0.0)
+        rn = rx * nx + ry * ny
+        tx = np.where(at_normal, rx - rn * nx, tx)
+        ty = np.where(at_normal, ry - rn * ny, ty)
+        tz = np.where(at_normal, -rn * nz, tz)
+        kappa = np.where(at_normal, 0.0, kappa)
+    t_len = np.sqrt(tx * tx + ty * ty + tz * tz)
+    u1 = np.stack([tx / t_len, ty / t_len, tz / t_len])
+    u2 = np.stack([ny * u1[2] - nz * u1[1], nz * u1[0] - nx * u1[2], nx * u1[1] - ny * u1[0]])
+    n_vec = np.stack([nx, ny, nz])
+
+    # Incident field in the local frame; H = k × E with k = (κ, 0, k_n).
+    e_loc_x = ex * u1[0] + ey * u1[1] + ez * u1[2]
+    e_loc_y = ex * u2[0] + ey * u2[1] + ez * u2[2]
+    e_loc_z = ex * nx + ey * ny + ez * nz
+    rhs = [e_loc_x, e_loc_y, -k_n * e_loc_y, k_n * e_loc_x - kappa * e_loc_z]
+    flux_in = np.abs(flux_sign)
+
+    # Medium parameters for the waves (transmitted: medium 2, reflected: medium 1).
+    def local_axis(c, n_o, n_e):
+        iso = n_o == n_e
+        cx = np.where(iso, 0.0, c[0] * u1[0] + c[1] * u1[1] + c[2] * u1[2])
+        cy = np.where(iso, 0.0, c[0] * u2[0] + c[1] * u2[1] + c[2] * u2[2])
+        cz = np.where(iso, 1.0, c[0] * nx + c[1] * ny + c[2] * nz)
+        return cx, cy, cz
+
+    a2 = local_axis(c2, n_o2, n_e2)
+    a1 = local_axis(c1, n_o1, n_e1)
+    zeros = np.zeros_like(kappa)
+    kt_loc = np.stack([kappa, zeros, zeros], axis=-1)
+    n_loc = np.stack([zeros, zeros, zeros + 1.0], axis=-1)
+    q2, ev2 = normal_components(kt_loc, n_loc, n_o2, n_e2, np.stack(a2, axis=-1))
+    q1, ev1 = normal_components(kt_loc, n_loc, n_o1, n_e1, np.stack(a1, axis=-1))
+    q = np.stack([q2[:, 0], q2[:, 1], q1[:, 2], q1[:, 3]])
+    evanescent = np.stack([ev2[:, 0], ev2[:, 1], ev1[:, 2], ev1[:, 3]])
+    if not (evanescent.any() or layer is not None):
+        q = q.real
+    n_o = np.stack([n_o2, n_o2, n_o1, n_o1])
+    n_e = np.stack([n_e2, n_e2, n_e1, n_e1])
+    cx, cy, cz = (np.stack([a2[i], a2[i], a1[i], a1[i]]) for i in range(3))
+    fields = [None] * 4
+    for rows, mode in (((0, 2), "o"), ((1, 3), "e")):
+        r = list(rows)
+        fx, fy, fz = _local_fields(q[r], kappa, n_o[r], n_e[r], cx[r], cy[r], cz[r], mode)
+        for i, row in enumerate(rows):
+            fields[row] = (fx[i], fy[i], fz[i])
+    fx = np.stack([f[0] for f in fields])
+    fy = np.stack([f[1] for f in fields])
+    fz = np.stack([f[2] for f in fields])
+    hx = -q * fy
+    hy = q * fx - kappa * fz
+    # Columns of the boundary system: tangential (E₁, E₂, H₁, H₂) of each outgoing wave.
+    cols = np.stack([fx, fy, hx, hy])                     # (component, wave, m)
+    rhs = np.stack(rhs)                                   # (component, m)
+    if layer is None:
+        matrix = np.concatenate([cols[:, :2], -cols[:, 2:]], axis=1)
+    else:
+        n_layer, wavelength_um, thickness_mm = layer
+        m = np.moveaxis(layer_transfer_matrix(n_layer, kappa, wavelength_um, thickness_mm), 0, -1)
+        reflected = np.einsum("ijm,jwm->iwm", m, cols[:, 2:])
+        matrix = np.concatenate([cols[:, :2], -reflected], axis=1)
+        rhs = np.einsum("ijm,jm->im", m, rhs)
+    coefficient, singular = solve4_components(matrix, rhs)  # (wave, m)
+
+    flux = (fx * hy.conjugate() - fy * hx.conjugate()).real
+    size = np.sqrt((fx * fx.conjugate() + fy * fy.conjugate() + fz * fz.conjugate()).real)
+    power = (coefficient * coefficient.conjugate()).real * np.abs(flux)
+    power_fraction = np.where(evanescent, 0.0, power / np.where(flux_in > 0, flux_in, 1.0))
+    local_e = np.stack([fx / size, fy / size, fz / size], axis=-1)   # (wave, m, 3)
+    return dict(coefficient=(coefficient * size).T, power_fraction=power_fraction.T,
+                evanescent=evanescent.T, singular=singular, normal=n_vec.T,
+                normal_component=q.T, _u1=u1.T, _u2=u2.T, _kappa=kappa,
+                _local_e=np.moveaxis(local_e, 0, 1))
 
 
 def solve_interface(wave_vector_in, field_in, normal, indices_1, axis_1, indices_2, axis_2,
@@ -85,15 +231,15 @@ def solve_interface(wave_vector_in, field_in, normal, indices_1, axis_1, indices
 
     Parameters
     ----------
-    wave_vector_in : ndarray, shape (..., 3)
+    wave_vector_in : array_like, shape (..., 3)
         Real incident wave vector, units of k0 (length = phase index of the incident wave).
-    field_in : ndarray, complex, shape (..., 3)
+    field_in : array_like, complex, shape (..., 3)
         Incident electric field (any norm); in a crystal it must be that eigenwave's field.
-    normal : ndarray, shape (..., 3)
+    normal : array_like, shape (..., 3)
         Unit surface normal; its sign is irrelevant (oriented along the incident flow here).
-    indices_1, indices_2 : tuple of ndarray
+    indices_1, indices_2 : tuple of array_like
         (n_o, n_e) of the incident and the far medium, shape (...). Equal values mean isotropic.
-    axis_1, axis_2 : ndarray, shape (..., 3)
+    axis_1, axis_2 : array_like, shape (..., 3)
         Unit optic axes (ignored for isotropic media).
     layer : tuple, optional
         (n_layer, wavelength_um, thickness_mm) of a coherent isotropic thin layer between the
@@ -102,68 +248,49 @@ def solve_interface(wave_vector_in, field_in, normal, indices_1, axis_1, indices
     Returns
     -------
     InterfaceResult
+        Arrays of the broadcast shape of the inputs (plus mode and vector axes).
     """
     k_in = np.asarray(wave_vector_in, dtype=float)
     e_in = np.asarray(field_in, dtype=complex)
     n_o1, n_e1 = (np.asarray(v, dtype=float) for v in indices_1)
     n_o2, n_e2 = (np.asarray(v, dtype=float) for v in indices_2)
-    shape = np.broadcast_shapes(k_in.shape[:-1], e_in.shape[:-1], np.shape(normal)[:-1],
-                                n_o1.shape, n_o2.shape, np.shape(axis_1)[:-1], np.shape(axis_2)[:-1])
-    k_in = np.broadcast_to(k_in, shape + (3,))
-    e_in = np.broadcast_to(e_in, shape + (3,))
-    n_o1, n_e1, n_o2, n_e2 = (np.broadcast_to(v, shape) for v in (n_o1, n_e1, n_o2, n_e2))
+    normal = np.asarray(normal, dtype=float)
+    axis_1 = np.asarray(axis_1, dtype=float)
+    axis_2 = np.asarray(axis_2, dtype=float)
+    layer_arrays = () if layer is None else tuple(np.asarray(v, dtype=float) for v in layer)
+    shape = np.broadcast_shapes(k_in.shape[:-1], e_in.shape[:-1], normal.shape[:-1],
+                                axis_1.shape[:-1], axis_2.shape[:-1], n_o1.shape, n_e1.shape,
+                                n_o2.shape, n_e2.shape, *(v.shape for v in layer_arrays))
+    size = int(np.prod(shape))
 
-    h_in = cross(k_in, e_in)
-    normal = np.broadcast_to(np.asarray(normal, dtype=float), shape + (3,))
-    # Orient N̂ along the incident energy flow, so "forward" means "into medium 2".
-    flux_in_signed = _flux(e_in, h_in, normal)
-    normal = np.where((flux_in_signed < 0)[..., None], -normal, normal)
-    flux_in = np.abs(flux_in_signed)
+    def vectors(a):
+        return np.broadcast_to(a, shape + (3,)).reshape(size, 3).T
 
-    iso_1 = n_o1 == n_e1
-    iso_2 = n_o2 == n_e2
-    c1 = np.where(iso_1[..., None], normal, np.broadcast_to(axis_1, shape + (3,)))
-    c2 = np.where(iso_2[..., None], normal, np.broadcast_to(axis_2, shape + (3,)))
+    def scalars(a):
+        return np.broadcast_to(a, shape).reshape(size)
 
-    k_t = k_in - dot(k_in, normal)[..., None] * normal
-    q2, evan2 = normal_components(k_t, normal, n_o2, n_e2, c2)
-    q1, evan1 = normal_components(k_t, normal, n_o1, n_e1, c1)
-    # Forward roots of medium 2 (transmitted), backward roots of medium 1 (reflected).
-    q = np.stack([q2[..., 0], q2[..., 1], q1[..., 2], q1[..., 3]], axis=-1)
-    evanescent = np.stack([evan2[..., 0], evan2[..., 1], evan1[..., 2], evan1[..., 3]], axis=-1)
-    k_out = k_t[..., None, :] + q[..., None] * normal[..., None, :]
+    columns = [vectors(k_in), vectors(e_in), vectors(normal), scalars(n_o1), scalars(n_e1),
+               vectors(axis_1), scalars(n_o2), scalars(n_e2), vectors(axis_2)]
+    layer_flat = [scalars(v) for v in layer_arrays]
+    out = {"coefficient": np.empty((size, 4), complex), "power_fraction": np.empty((size, 4)),
+           "evanescent": np.empty((size, 4), bool), "singular": np.empty(size, bool),
+           "normal": np.empty((size, 3)), "normal_component": np.empty((size, 4), complex),
+           "_u1": np.empty((size, 3)), "_u2": np.empty((size, 3)), "_kappa": np.empty(size),
+           "_local_e": np.empty((size, 4, 3), complex)}
 
-    e_out = np.empty(shape + (4, 3), dtype=complex)
-    h_out = np.empty(shape + (4, 3), dtype=complex)
-    for j, (mode, n_o, n_e, c) in enumerate((("o", n_o2, n_e2, c2), ("e", n_o2, n_e2, c2),
-                                             ("o", n_o1, n_e1, c1), ("e", n_o1, n_e1, c1))):
-        e_out[..., j, :], h_out[..., j, :] = mode_fields(k_out[..., j, :], n_o, n_e, c, normal, mode)
+    def run(start):
+        block = slice(start, min(start + BLOCK_SIZE, size))
+        args = [np.ascontiguousarray(c[..., block]) for c in columns]
+        layer_block = tuple(v[block] for v in layer_flat) if layer is not None else None
+        for key, value in _solve_block(*args, layer_block).items():
+            out[key][block] = value
 
-    u1, u2 = _tangential_basis(k_t, normal)
-    u1m = u1[..., None, :]
-    u2m = u2[..., None, :]
-    # Columns: tangential field 4-vectors (E·û₁, E·û₂, H·û₁, H·û₂) of each outgoing wave.
-    columns = np.stack([dot(e_out, u1m), dot(e_out, u2m), dot(h_out, u1m), dot(h_out, u2m)], axis=-2)
-    incident = np.stack([dot(e_in, u1), dot(e_in, u2), dot(h_in, u1), dot(h_in, u2)], axis=-1)
-    # Σ t F_t = M (F_in + Σ r F_r)  ->  [F_t | −M F_r] x = M F_in   (M = I without a layer)
-    if layer is None:
-        matrix = np.concatenate([columns[..., :2], -columns[..., 2:]], axis=-1)
-        rhs = incident
+    starts = range(0, size, BLOCK_SIZE)
+    if size > 4 * BLOCK_SIZE and _WORKERS > 1:
+        # numpy releases the GIL inside its loops, so blocks run in parallel on threads.
+        with ThreadPoolExecutor(max_workers=_WORKERS) as pool:
+            list(pool.map(run, starts))
     else:
-        n_layer, wavelength_um, thickness_mm = layer
-        kappa = np.sqrt(dot(k_t, k_t))
-        m = layer_transfer_matrix(n_layer, kappa, wavelength_um, thickness_mm)
-        matrix = np.concatenate([columns[..., :2], -(m @ columns[..., 2:])], axis=-1)
-        rhs = (m @ incident[..., None])[..., 0]
-    coefficient, singular = solve4(matrix, rhs)
-
-    flux_out = _flux(e_out, h_out, normal[..., None, :])
-    safe_flux_in = np.where(flux_in > 0, flux_in, 1.0)
-    power_fraction = np.abs(coefficient) ** 2 * np.abs(flux_out) / safe_flux_in[..., None]
-    power_fraction = np.where(evanescent, 0.0, power_fraction)
-
-    ray = np.real(cross(e_out, np.conj(h_out)))
-    ray = normalize(ray)
-    return InterfaceResult(wave_vector=k_out, ray_direction=ray, e_field=e_out, h_field=h_out,
-                           coefficient=coefficient, power_fraction=power_fraction,
-                           evanescent=evanescent, singular=singular, normal=normal)
+        for start in starts:
+            run(start)
+    return InterfaceResult(**{key: value.reshape(shape + value.shape[1:]) for key, value in out.items()})

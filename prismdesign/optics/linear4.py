@@ -6,36 +6,43 @@ whole arrays at once and reports singular systems per element instead.
 """
 import numpy as np
 
-__all__ = ["solve4"]
+__all__ = ["solve4", "solve4_components"]
 
 
-def solve4(matrix, rhs):
-    """Solve A x = b for a batch of 4 × 4 systems.
+def _magnitude(a):
+    """|Re| + |Im|: a cheap magnitude, good enough for scaling."""
+    return np.abs(a.real) + np.abs(a.imag) if np.iscomplexobj(a) else np.abs(a)
+
+
+def solve4_components(a, b):
+    """Solve A x = b for 4 × 4 systems stored component-first.
 
     Parameters
     ----------
-    matrix : ndarray, shape (..., 4, 4)
-        Real or complex system matrices.
-    rhs : ndarray, shape (..., 4)
-        Right-hand sides.
+    a : ndarray, shape (4, 4, m)
+        a[i, j] is the batch of entries (i, j).
+    b : ndarray, shape (4, m)
 
     Returns
     -------
-    x : ndarray, shape (..., 4)
-        Solutions; zero where the system is singular.
-    singular : ndarray of bool, shape (...)
-        True where |det A| is below 1e-14 times the product of the row norms.
+    x : ndarray, shape (4, m)
+        Solutions; zero where singular.
+    singular : ndarray of bool, shape (m,)
 
     Notes
     -----
-    Laplace expansion along the first two rows: the determinant and adjugate follow from the
-    six 2 × 2 minors of rows (0, 1) and the six of rows (2, 3).
+    Columns and then rows are scaled to unit largest magnitude first (equilibration), so the
+    singularity test |det| < 1e-14 is independent of how the unknowns and equations are scaled,
+    e.g. by the cosh growth of an evanescent thin-layer matrix. The determinant and adjugate follow
+    from the Laplace expansion along rows (0, 1): six 2 × 2 minors of rows (0, 1) and six of rows
+    (2, 3).
     """
-    a = matrix
-    a00, a01, a02, a03 = a[..., 0, 0], a[..., 0, 1], a[..., 0, 2], a[..., 0, 3]
-    a10, a11, a12, a13 = a[..., 1, 0], a[..., 1, 1], a[..., 1, 2], a[..., 1, 3]
-    a20, a21, a22, a23 = a[..., 2, 0], a[..., 2, 1], a[..., 2, 2], a[..., 2, 3]
-    a30, a31, a32, a33 = a[..., 3, 0], a[..., 3, 1], a[..., 3, 2], a[..., 3, 3]
+    col_scale = 1.0 / np.maximum(np.max(_magnitude(a), axis=0), 1e-300)     # (4, m)
+    a = a * col_scale[None, :, :]
+    row_scale = 1.0 / np.maximum(np.max(_magnitude(a), axis=1), 1e-300)     # (4, m)
+    a = a * row_scale[:, None, :]
+    b = b * row_scale
+    (a00, a01, a02, a03), (a10, a11, a12, a13), (a20, a21, a22, a23), (a30, a31, a32, a33) = a
     s0 = a00 * a11 - a10 * a01
     s1 = a00 * a12 - a10 * a02
     s2 = a00 * a13 - a10 * a03
@@ -49,7 +56,7 @@ def solve4(matrix, rhs):
     c1 = a20 * a32 - a30 * a22
     c0 = a20 * a31 - a30 * a21
     det = s0 * c5 - s1 * c4 + s2 * c3 + s3 * c2 - s4 * c1 + s5 * c0
-    b0, b1, b2, b3 = rhs[..., 0], rhs[..., 1], rhs[..., 2], rhs[..., 3]
+    b0, b1, b2, b3 = b
     # x = adj(A) b / det, with the adjugate rows written out.
     x0 = ((a11 * c5 - a12 * c4 + a13 * c3) * b0 + (-a01 * c5 + a02 * c4 - a03 * c3) * b1
           + (a31 * s5 - a32 * s4 + a33 * s3) * b2 + (-a21 * s5 + a22 * s4 - a23 * s3) * b3)
@@ -59,8 +66,33 @@ def solve4(matrix, rhs):
           + (a30 * s4 - a31 * s2 + a33 * s0) * b2 + (-a20 * s4 + a21 * s2 - a23 * s0) * b3)
     x3 = ((-a10 * c3 + a11 * c1 - a12 * c0) * b0 + (a00 * c3 - a01 * c1 + a02 * c0) * b1
           + (-a30 * s3 + a31 * s1 - a32 * s0) * b2 + (a20 * s3 - a21 * s1 + a22 * s0) * b3)
-    row_scale = np.prod(np.sqrt((np.abs(a) ** 2).sum(axis=-1)), axis=-1)
-    singular = ~(np.abs(det) > 1e-14 * row_scale)
-    safe_det = np.where(singular, 1.0, det)
-    x = np.stack([x0, x1, x2, x3], axis=-1) / safe_det[..., None]
-    return np.where(singular[..., None], 0.0, x), singular
+    singular = ~(_magnitude(det) > 1e-14)
+    inv_det = np.where(singular, 0.0, 1.0 / np.where(singular, 1.0, det))
+    x = np.stack([x0, x1, x2, x3]) * (inv_det * col_scale)
+    return x, singular
+
+
+def solve4(matrix, rhs):
+    """Solve A x = b for a batch of 4 × 4 systems.
+
+    Parameters
+    ----------
+    matrix : array_like, shape (..., 4, 4)
+        Real or complex system matrices.
+    rhs : array_like, shape (..., 4)
+        Right-hand sides.
+
+    Returns
+    -------
+    x : ndarray, shape (..., 4)
+        Solutions; zero where the system is singular.
+    singular : ndarray of bool, shape (...)
+        True where the equilibrated determinant is below 1e-14 in magnitude.
+    """
+    matrix = np.asarray(matrix)
+    rhs = np.asarray(rhs)
+    shape = np.broadcast_shapes(matrix.shape[:-2], rhs.shape[:-1])
+    a = np.broadcast_to(matrix, shape + (4, 4)).reshape(-1, 4, 4)
+    b = np.broadcast_to(rhs, shape + (4,)).reshape(-1, 4)
+    x, singular = solve4_components(np.moveaxis(a, 0, -1), b.T)
+    return x.T.reshape(shape + (4,)), singular.reshape(shape)
