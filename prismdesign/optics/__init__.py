@@ -5,8 +5,9 @@ from .system import (CircularAperture, FixedIndices, Medium, RectangularAperture
                      SequentialSystem, Surface, optic_axis_from_angles)
 from .thin_layer import ThinLayer
 from .tracer import Beam, TraceFlag, TraceResult, trace
+from .vectors import direction_from_angles
 
 __all__ = ["extraordinary_index", "plane_wave_modes", "MODE_ORDER", "InterfaceResult",
            "solve_interface", "CircularAperture", "FixedIndices", "Medium", "RectangularAperture",
            "SequentialSystem", "Surface", "optic_axis_from_angles", "ThinLayer", "Beam",
-           "TraceFlag", "TraceResult", "trace"]
+           "TraceFlag", "TraceResult", "trace", "direction_from_angles"]

@@ -161,6 +161,10 @@ class Surface:
     layer : ThinLayer, optional
         Coherent thin isotropic layer at this surface (cement film, narrow air gap).
     label : str
+    reflect_from : Medium, optional
+        Makes this a reflecting surface: the tracer follows the reflected waves (back into the
+        medium before the surface, which must then also be the medium after it) and uses
+        `reflect_from` as the medium on the far side. Used to follow rejected beams.
     """
 
     point_mm: object
@@ -168,6 +172,7 @@ class Surface:
     aperture: object = None
     layer: ThinLayer | None = None
     label: str = ""
+    reflect_from: object = None
 
     def __post_init__(self):
         point = np.asarray(self.point_mm, dtype=float)
@@ -203,3 +208,7 @@ class SequentialSystem:
             raise ValueError("a sequential system needs at least one surface")
         if self.media[0].is_crystal:
             raise ValueError("the first medium must be isotropic: rays start outside the crystals")
+        for i, surface in enumerate(self.surfaces):
+            if surface.reflect_from is not None and self.media[i + 1] != self.media[i]:
+                raise ValueError(f"reflecting surface {i} ({surface.label or 'unnamed'}) must have "
+                                 f"the same medium before and after it")

@@ -165,6 +165,15 @@ class TraceResult:
         return p.sum(axis=0) if self.incoherent_pair else p
 
 
+def _axis_array(medium, shape):
+    """Optic axis of a medium broadcast to the bundle shape and flattened (z if isotropic).
+
+    Axes may carry leading sample axes (Monte Carlo) that broadcast against the rays.
+    """
+    axis = medium.optic_axis if medium.is_crystal else np.array([0.0, 0.0, 1.0])
+    return np.broadcast_to(axis, tuple(shape) + (3,)).reshape(-1, 3)
+
+
 class _Branch:
     """Working state of one branch during a trace (flat ray axis)."""
 
@@ -197,7 +206,7 @@ def _intersect(branch, surface):
     return new_point, path, flags
 
 
-def _prepare_input(position_mm, direction, wavelength_um, polarisation):
+def _prepare_input(position_mm, direction, wavelength_um, polarisation, extra_shapes=()):
     """Broadcast and flatten the input bundle; returns flat arrays and the bundle shape."""
     position = np.asarray(position_mm, dtype=float)
     direction = as_unit_vectors(direction, "direction")
@@ -220,7 +229,8 @@ def _prepare_input(position_mm, direction, wavelength_um, polarisation):
                              f"got shape {jones.shape}")
         if np.any((np.abs(jones) ** 2).sum(axis=-1) == 0):
             raise ValueError("polarisation Jones vectors must be non-zero")
-    shape = np.broadcast_shapes(position.shape[:-1], direction.shape[:-1], wavelength.shape)
+    shape = np.broadcast_shapes(position.shape[:-1], direction.shape[:-1], wavelength.shape,
+                                *extra_shapes)
     if pair:
         jones = jones.reshape((2,) + (1,) * len(shape) + (2,))
         shape = (2,) + shape
@@ -271,12 +281,14 @@ def trace(system, position_mm, direction, wavelength_um, polarisation=(1.0, 0.0)
     TraceResult
         Arrays carry the broadcast bundle shape (with a leading 2 for unpolarised input).
     """
+    crystals = [m for m in system.media if m.is_crystal]
+    crystals += [s.reflect_from for s in system.surfaces
+                 if s.reflect_from is not None and s.reflect_from.is_crystal]
     position, direction, wavelength, jones, shape, pair = _prepare_input(
-        position_mm, direction, wavelength_um, polarisation)
+        position_mm, direction, wavelength_um, polarisation,
+        [np.shape(m.optic_axis)[:-1] for m in crystals])
     media_indices = [m.indices(wavelength) for m in system.media]
-    axes = [np.broadcast_to(m.optic_axis, (wavelength.size, 3)) if m.is_crystal
-            else np.broadcast_to(np.array([0.0, 0.0, 1.0]), (wavelength.size, 3))
-            for m in system.media]
+    axes = [_axis_array(m, shape) for m in system.media]
     n0 = media_indices[0][0]
     x_p, y_p = transverse_basis(direction)
     field = jones[:, :1] * x_p + jones[:, 1:] * y_p
@@ -294,19 +306,26 @@ def trace(system, position_mm, direction, wavelength_um, polarisation=(1.0, 0.0)
             if np.any(n_layer != n_layer_e):
                 raise ValueError(f"thin layer at surface {i} must be isotropic")
             layer = (n_layer, wavelength, surface.layer.thickness_mm)
+        mirror = surface.reflect_from is not None
+        if mirror:
+            far_indices = surface.reflect_from.indices(wavelength)
+            far_axis = _axis_array(surface.reflect_from, shape)
+        else:
+            far_indices, far_axis = media_indices[i + 1], axes[i + 1]
         new_branches = []
         for branch in branches:
             point, path, flags = _intersect(branch, surface)
             res = solve_interface(branch.k, branch.field, surface.normal, media_indices[i], axes[i],
-                                  media_indices[i + 1], axes[i + 1], layer=layer)
+                                  far_indices, far_axis, layer=layer)
             flags = flags | np.where(res.singular, TraceFlag.SINGULAR, 0)
             amplitude = (np.exp(1j * np.angle(res.coefficient))
                          * np.sqrt(res.power_fraction * branch.power[:, None]))
             amplitude = np.where(res.singular[:, None], 0.0, amplitude)
-            outgoing = [("t", (0, 1), after), ("r", (2, 3), before)]
+            if mirror:
+                outgoing = [("t", (2, 3), before)]
+            else:
+                outgoing = [("t", (0, 1), after)] + ([("r", (2, 3), before)] if keep_reflections else [])
             for side, modes, medium in outgoing:
-                if side == "r" and not keep_reflections:
-                    continue
                 if medium.is_crystal:
                     groups = [(label, (j,)) for label, j in zip("oe", modes)]
                 else:

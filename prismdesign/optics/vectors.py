@@ -7,7 +7,7 @@ complex input and broadcast.
 import numpy as np
 
 __all__ = ["dot", "cross", "norm", "hermitian_norm", "normalize", "hermitian_normalize",
-           "as_unit_vectors", "transverse_basis"]
+           "as_unit_vectors", "transverse_basis", "direction_from_angles"]
 
 
 def dot(a, b):
@@ -93,3 +93,25 @@ def transverse_basis(direction):
         length = norm(x_prime)
     x_prime = x_prime / length[..., None]
     return x_prime, cross(d, x_prime)
+
+
+def direction_from_angles(in_plane_deg, out_of_plane_deg=0.0):
+    """Unit direction from its in-plane and out-of-plane angles (degrees).
+
+    d = (cos β sin α, sin β, cos β cos α) with α the in-plane angle (atan2(d_x, d_z), positive
+    toward +x) and β the out-of-plane angle (asin d_y): the inverse of the deviation convention
+    of DESIGN.md, so that Beam.deviation_deg returns (α, β).
+
+    Parameters
+    ----------
+    in_plane_deg, out_of_plane_deg : array_like
+        Broadcast against each other.
+
+    Returns
+    -------
+    ndarray, shape (..., 3)
+    """
+    a = np.deg2rad(np.asarray(in_plane_deg, dtype=float))
+    b = np.deg2rad(np.asarray(out_of_plane_deg, dtype=float))
+    a, b = np.broadcast_arrays(a, b)
+    return np.stack([np.cos(b) * np.sin(a), np.sin(b), np.cos(b) * np.cos(a)], axis=-1)

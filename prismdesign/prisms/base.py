@@ -1,0 +1,287 @@
+"""Prism objects: crystal or glass pieces between plane boundaries, ready to trace and draw.
+
+Geometry convention (all builders): the entrance face is the plane z = 0 with normal +z, the
+prism extends toward +z, x lies in the principal section (the plane in which the beams split),
+y completes a right-handed frame. Optic axes are unit vectors in this global frame. The clear
+aperture is `width_mm` along x by `height_mm` along y, centred on the z axis.
+"""
+from dataclasses import dataclass, field, replace
+
+import numpy as np
+
+from ..materials import material as library_material
+from ..optics import (FixedIndices, Medium, RectangularAperture, SequentialSystem, Surface,
+                      ThinLayer, direction_from_angles, trace)
+from ..optics.vectors import as_unit_vectors
+
+__all__ = ["Piece", "Boundary", "Prism", "ideal_antireflection_layer", "check_positive",
+           "check_angle"]
+
+
+def check_positive(name, value):
+    """Return float(value) or fail with a one-line message if it is not positive and finite."""
+    try:
+        v = float(value)
+    except (TypeError, ValueError):
+        raise ValueError(f"{name} must be a positive number, got {value!r}") from None
+    if not (np.isfinite(v) and v > 0):
+        raise ValueError(f"{name} must be a positive number, got {value!r}")
+    return v
+
+
+def check_angle(name, value, low, high):
+    """Return float(value) or fail with a one-line message if it is outside (low, high) degrees."""
+    try:
+        v = float(value)
+    except (TypeError, ValueError):
+        raise ValueError(f"{name} must be an angle in degrees, got {value!r}") from None
+    if not (np.isfinite(v) and low < v < high):
+        raise ValueError(f"{name} must lie between {low:g} and {high:g} degrees, got {value!r}")
+    return v
+
+
+@dataclass(frozen=True)
+class Piece:
+    """One piece of a prism: a crystal (with optic axis) or an isotropic glass / gap.
+
+    Parameters
+    ----------
+    material : object
+        Library material (or :class:`~prismdesign.optics.FixedIndices`).
+    optic_axis : array_like, shape (3,), optional
+        Unit optic axis in the global frame; required for uniaxial materials.
+    label : str
+    """
+
+    material: object
+    optic_axis: object = None
+    label: str = ""
+
+    def __post_init__(self):
+        if self.optic_axis is not None:
+            object.__setattr__(self, "optic_axis", as_unit_vectors(self.optic_axis, "optic_axis"))
+        elif getattr(self.material, "kind", None) == "uniaxial":
+            raise ValueError(f"piece {self.label or self.material.name!r} of uniaxial "
+                             f"{self.material.name} needs an optic_axis")
+
+    @property
+    def is_crystal(self):
+        return self.optic_axis is not None and getattr(self.material, "kind", "") == "uniaxial"
+
+
+@dataclass(frozen=True)
+class Boundary:
+    """A plane boundary between pieces (or between a piece and the surroundings).
+
+    Parameters
+    ----------
+    point_mm : array_like, shape (3,)
+        A point on the plane.
+    normal : array_like, shape (3,)
+        Unit normal, oriented toward +z.
+    layer : ThinLayer, optional
+        Coherent thin film at the boundary (cement, narrow air gap).
+    coated : bool
+        Outer faces only: an ideal single-layer antireflection coating for the design wavelength.
+    label : str
+    """
+
+    point_mm: object
+    normal: object
+    layer: ThinLayer | None = None
+    coated: bool = False
+    label: str = ""
+
+    def __post_init__(self):
+        object.__setattr__(self, "point_mm", np.asarray(self.point_mm, dtype=float))
+        n = as_unit_vectors(self.normal, "boundary normal")
+        object.__setattr__(self, "normal", n if n[2] >= 0 else -n)
+
+
+def ideal_antireflection_layer(n_outside, n_inside, wavelength_um):
+    """Quarter-wave single layer of index √(n₁n₂): zero reflectance at normal incidence.
+
+    Parameters
+    ----------
+    n_outside, n_inside : float
+        Indices on the two sides at the design wavelength.
+    wavelength_um : float
+        Design wavelength (µm).
+
+    Returns
+    -------
+    ThinLayer
+        Index √(n₁n₂), thickness λ/(4n) (Born & Wolf, *Principles of Optics*, §1.6.4).
+    """
+    n_c = float(np.sqrt(n_outside * n_inside))
+    return ThinLayer(FixedIndices(n_c, name="ideal antireflection layer"),
+                     thickness_mm=wavelength_um / (4.0 * n_c) * 1e-3)
+
+
+def _clip(polygon, point, normal, keep_positive):
+    """Clip a 2-D polygon (rows (z, x)) by the half plane (p − point)·normal ≷ 0."""
+    out = []
+    sign = 1.0 if keep_positive else -1.0
+    dist = sign * ((polygon - point) @ normal)
+    count = len(polygon)
+    for i in range(count):
+        j = (i + 1) % count
+        if dist[i] >= 0:
+            out.append(polygon[i])
+        if (dist[i] >= 0) != (dist[j] >= 0):
+            t = dist[i] / (dist[i] - dist[j])
+            out.append(polygon[i] + t * (polygon[j] - polygon[i]))
+    return np.array(out)
+
+
+@dataclass(frozen=True)
+class Prism:
+    """A birefringent prism: pieces between plane boundaries, in a surrounding medium.
+
+    Parameters
+    ----------
+    kind : str
+        Catalogue name ("wollaston", "rochon", ...).
+    pieces : sequence of Piece
+    boundaries : sequence of Boundary
+        ``len(boundaries) == len(pieces) + 1``: entrance face, internal interfaces, exit face.
+    width_mm, height_mm : float
+        Clear aperture along x and y.
+    design_wavelength_um : float
+    surround : object, optional
+        Material around the prism; default the library's standard air.
+    parameters : dict
+        The builder's inputs, for reports.
+    """
+
+    kind: str
+    pieces: tuple
+    boundaries: tuple
+    width_mm: float
+    height_mm: float
+    design_wavelength_um: float
+    surround: object = None
+    parameters: dict = field(default_factory=dict)
+
+    def __post_init__(self):
+        object.__setattr__(self, "pieces", tuple(self.pieces))
+        object.__setattr__(self, "boundaries", tuple(self.boundaries))
+        if len(self.boundaries) != len(self.pieces) + 1:
+            raise ValueError(f"a prism needs one more boundary than pieces, got "
+                             f"{len(self.boundaries)} boundaries for {len(self.pieces)} pieces")
+        if self.surround is None:
+            object.__setattr__(self, "surround", library_material("air"))
+
+    # ----------------------------------------------------------------- geometry
+    def outline(self):
+        """Section y = 0 of each piece as a polygon.
+
+        Returns
+        -------
+        list of (Piece, ndarray of shape (k, 2))
+            Polygon vertices as (z, x) in mm.
+        """
+        half = 0.5 * self.width_mm
+        big = 1e3 * (1.0 + self.width_mm)
+        result = []
+        for i, piece in enumerate(self.pieces):
+            poly = np.array([[-big, -half], [big, -half], [big, half], [-big, half]])
+            for b, keep in ((self.boundaries[i], True), (self.boundaries[i + 1], False)):
+                point = b.point_mm[[2, 0]]
+                normal = b.normal[[2, 0]]
+                poly = _clip(poly, point, normal, keep)
+            result.append((piece, poly))
+        return result
+
+    @property
+    def length_mm(self):
+        """Extent along z of the whole prism (section y = 0)."""
+        z = np.concatenate([poly[:, 0] for _, poly in self.outline() if len(poly)])
+        return float(z.max() - z.min())
+
+    @property
+    def exit_z_mm(self):
+        """Largest z of the prism (section y = 0)."""
+        return float(max(poly[:, 0].max() for _, poly in self.outline() if len(poly)))
+
+    def rotated(self, angle_deg):
+        """The same prism turned by `angle_deg` about the z axis (e.g. for a double Wollaston)."""
+        a = np.deg2rad(angle_deg)
+        rot = np.array([[np.cos(a), -np.sin(a), 0.0], [np.sin(a), np.cos(a), 0.0], [0.0, 0.0, 1.0]])
+        pieces = [replace(p, optic_axis=None if p.optic_axis is None else rot @ p.optic_axis)
+                  for p in self.pieces]
+        boundaries = [replace(b, point_mm=rot @ b.point_mm, normal=rot @ b.normal)
+                      for b in self.boundaries]
+        return replace(self, pieces=pieces, boundaries=boundaries)
+
+    def shifted(self, dz_mm):
+        """The same prism moved by `dz_mm` along z."""
+        boundaries = [replace(b, point_mm=b.point_mm + np.array([0.0, 0.0, dz_mm]))
+                      for b in self.boundaries]
+        return replace(self, boundaries=boundaries)
+
+    # ----------------------------------------------------------------- tracing
+    def media(self):
+        """Media in order: surroundings, each piece, surroundings."""
+        outside = Medium(self.surround)
+        return [outside] + [Medium(p.material, p.optic_axis if p.is_crystal else None)
+                            for p in self.pieces] + [outside]
+
+    def system(self):
+        """The prism as a :class:`~prismdesign.optics.SequentialSystem`."""
+        media = self.media()
+        surfaces = []
+        lam = self.design_wavelength_um
+        for i, b in enumerate(self.boundaries):
+            layer = b.layer
+            if b.coated:
+                if i not in (0, len(self.boundaries) - 1):
+                    raise ValueError(f"boundary {i} is internal: only outer faces take an "
+                                     f"antireflection coating")
+                inside = media[1] if i == 0 else media[-2]
+                n_in = float(inside.indices(lam)[0])
+                n_out = float(media[0].indices(lam)[0])
+                layer = ideal_antireflection_layer(n_out, n_in, lam)
+            tilt = np.sqrt(max(1.0 - b.normal[2] ** 2, 0.0))
+            # Face width in its own plane grows as 1/cos(tilt) for a face tilted about y.
+            half_w = 0.5 * self.width_mm / max(b.normal[2], 1e-6) * (1.0 + 1e-9)
+            aperture = RectangularAperture(half_w, 0.5 * self.height_mm,
+                                           width_direction=(1.0, 0.0, -b.normal[0] / max(b.normal[2], 1e-6))
+                                           if tilt > 0 else (1.0, 0.0, 0.0))
+            surfaces.append(Surface(b.point_mm, b.normal, aperture=aperture, layer=layer,
+                                    label=b.label or f"boundary {i}"))
+        return SequentialSystem(media, surfaces, label=self.kind)
+
+    def trace(self, wavelength_um, in_plane_deg=0.0, out_of_plane_deg=0.0, *,
+              offset_mm=(0.0, 0.0), polarisation="unpolarised", keep_reflections=False,
+              power_threshold=1e-12):
+        """Trace collimated input through the prism.
+
+        Parameters
+        ----------
+        wavelength_um : array_like
+            Vacuum wavelengths (µm).
+        in_plane_deg, out_of_plane_deg : array_like
+            Input direction (see :func:`~prismdesign.optics.direction_from_angles`).
+        offset_mm : array_like, shape (..., 2)
+            Entry point (x, y) on the entrance face.
+        polarisation : array_like or "unpolarised"
+            Jones vector in the input's transverse basis (x̂, ŷ at normal incidence).
+        keep_reflections, power_threshold
+            Passed to :func:`~prismdesign.optics.trace`.
+
+        Returns
+        -------
+        TraceResult
+            Arrays broadcast over wavelength, angles and offsets (in that order of axes as
+            given by numpy broadcasting).
+        """
+        direction = direction_from_angles(in_plane_deg, out_of_plane_deg)
+        offset = np.asarray(offset_mm, dtype=float)
+        if offset.ndim == 0 or offset.shape[-1] != 2:
+            raise ValueError(f"offset_mm must be (x, y) pairs on the last axis, got shape {offset.shape}")
+        # Start 1 mm before the entrance face, aimed to meet it at the requested offset.
+        start = np.concatenate([offset, np.zeros(offset.shape[:-1] + (1,))], axis=-1)
+        start = start - direction * (1.0 / direction[..., 2:3])
+        return trace(self.system(), start, direction, wavelength_um, polarisation,
+                     keep_reflections=keep_reflections, power_threshold=power_threshold)
