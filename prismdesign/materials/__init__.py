@@ -1,0 +1,23 @@
+"""Materials: published dispersion formulas, isotropic and uniaxial media, the bundled library,
+reading and writing dispersion-data files, and fitting a formula to measured indices."""
+from .fitting import FitResult, fit_dispersion
+from .library import (MaterialLibrary, UnknownMaterialError, load_material, material, materials,
+                      save_material)
+from .material import (DispersionModel, DispersionRangeWarning, IsotropicMaterial, Reference,
+                       UniaxialMaterial)
+
+__all__ = [
+    "DispersionModel",
+    "DispersionRangeWarning",
+    "FitResult",
+    "IsotropicMaterial",
+    "MaterialLibrary",
+    "Reference",
+    "UniaxialMaterial",
+    "UnknownMaterialError",
+    "fit_dispersion",
+    "load_material",
+    "material",
+    "materials",
+    "save_material",
+]

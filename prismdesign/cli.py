@@ -1,0 +1,114 @@
+"""Command line: ``prismdesign materials | index NAME | demo``.
+
+A thin shell over the public API: it parses arguments, calls the library and formats text.
+Errors from the library become one line on stderr and exit code 2; warnings (for example a
+wavelength outside a material's data range) are printed as ``warning: ...`` lines on stderr.
+"""
+from __future__ import annotations
+
+import argparse
+import sys
+import warnings
+
+import numpy as np
+
+from . import material, materials
+
+REFERENCE_WAVELENGTH_UM = 0.6328   # HeNe line, the customary wavelength for quoting indices
+
+
+def _materials_command(args) -> str:
+    from .output.tables import format_table
+    rows = []
+    for name in materials():
+        item = material(name)
+        lo, hi = item.validity_um
+        dn = "-"
+        if item.kind == "uniaxial" and lo <= REFERENCE_WAVELENGTH_UM <= hi:
+            dn = f"{item.birefringence(REFERENCE_WAVELENGTH_UM):+.5f}"
+        rows.append([item.name, item.kind, item.optical_sign or "-", f"{lo:g}-{hi:g}", dn,
+                     item.reference.short if item.reference else "-"])
+    headers = ["name", "kind", "sign", "band (um)", f"dn at {REFERENCE_WAVELENGTH_UM} um",
+               "source"]
+    return format_table(headers, rows)
+
+
+def _index_command(args) -> str:
+    from .output.tables import format_table
+    item = material(args.name)
+    lo, hi = args.band
+    if not (0 < lo < hi) or not np.isfinite(hi):
+        raise ValueError(f"--band {lo:g} {hi:g}: need two increasing positive wavelengths in um")
+    if args.points < 2:
+        raise ValueError(f"--points {args.points}: need at least 2")
+    lam = np.linspace(lo, hi, args.points)
+    t = args.temperature
+    if item.kind == "uniaxial":
+        n_o, n_e = item.indices(lam, t)
+        g_o, g_e = item.group_index_o(lam, t), item.group_index_e(lam, t)
+        headers = ["wavelength (um)", "n_o", "n_e", "n_e - n_o", "group n_o", "group n_e"]
+        rows = [[f"{w:.4f}", f"{a:.6f}", f"{b:.6f}", f"{b - a:+.6f}", f"{c:.6f}", f"{d:.6f}"]
+                for w, a, b, c, d in zip(lam, n_o, n_e, g_o, g_e)]
+    else:
+        n, g = item.n(lam, t), item.group_index(lam, t)
+        headers = ["wavelength (um)", "n", "group n"]
+        rows = [[f"{w:.4f}", f"{a:.6f}", f"{c:.6f}"] for w, a, c in zip(lam, n, g)]
+    temperature = item.temperature_c if t is None else t
+    source = str(item.reference) if item.reference else "no reference"
+    text = [f"{item.name} ({item.kind}) at {temperature:g} C; data valid "
+            f"{item.validity_um[0]:g}-{item.validity_um[1]:g} um", f"source: {source}", "",
+            format_table(headers, rows)]
+    if args.plot:
+        from .output.material_plots import plot_indices
+        # The figure uses a fine grid of its own so curves stay smooth for any --points.
+        fine = np.linspace(lo, hi, 400)
+        text += ["", f"wrote {plot_indices(item, fine, args.plot, t)}"]
+    return "\n".join(text)
+
+
+def _demo_command(args) -> str:
+    from .output.demo_materials import run_demo
+    return run_demo(args.out)
+
+
+def build_parser() -> argparse.ArgumentParser:
+    """The argument parser (exposed for documentation and tests)."""
+    parser = argparse.ArgumentParser(
+        prog="prismdesign", description="Design birefringent crystal prisms.")
+    sub = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
+    p = sub.add_parser("materials", help="list the crystal and glass library")
+    p.set_defaults(run=_materials_command)
+    p = sub.add_parser("index", help="table (and plot) of a material's indices over a band")
+    p.add_argument("name", help="material name or alias, e.g. calcite, alpha-BBO")
+    p.add_argument("--band", nargs=2, type=float, metavar=("FROM_UM", "TO_UM"),
+                   default=(0.4, 1.0), help="wavelength band in um (default 0.4 1.0)")
+    p.add_argument("--points", type=int, default=13, help="number of wavelengths (default 13)")
+    p.add_argument("--temperature", type=float, default=None, metavar="C",
+                   help="crystal temperature in degrees C (default: that of the data)")
+    p.add_argument("--plot", metavar="FILE", help="also write a figure (PNG, PDF or SVG)")
+    p.set_defaults(run=_index_command)
+    p = sub.add_parser("demo", help="run the built-in example")
+    p.add_argument("--out", default="prismdesign-demo", metavar="DIR",
+                   help="folder for the demo's figures and tables (default prismdesign-demo)")
+    p.set_defaults(run=_demo_command)
+    return parser
+
+
+def main(argv=None) -> int:
+    """Entry point of the ``prismdesign`` command; returns the exit code."""
+    args = build_parser().parse_args(argv)
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        try:
+            text = args.run(args)
+        except (ValueError, LookupError, OSError) as error:
+            print(f"prismdesign {args.command}: error: {error}", file=sys.stderr)
+            return 2
+    for message in dict.fromkeys(str(w.message) for w in caught):
+        print(f"warning: {message}", file=sys.stderr)
+    print(text)
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())

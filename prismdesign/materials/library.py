@@ -1,0 +1,207 @@
+"""The material library: load and save dispersion-data files, look materials up by name.
+
+Bundled files live in the package ``prismdesign.dispersion_data`` (the top-level
+``dispersion_data/`` folder of the repository, shipped inside the wheel).  Look-up is
+case-insensitive and ignores spaces, hyphens and underscores, so ``"alpha-BBO"``,
+``"Alpha BBO"`` and ``"alpha_bbo"`` name the same entry; aliases in each file add more names.
+"""
+from __future__ import annotations
+
+import difflib
+import functools
+import importlib.resources
+import os
+import re
+import tempfile
+import tomllib
+from pathlib import Path
+
+import tomli_w
+
+from .schema import material_from_dict, material_to_dict
+
+__all__ = ["MaterialLibrary", "UnknownMaterialError", "load_material", "material", "materials",
+           "save_material"]
+
+
+class UnknownMaterialError(LookupError):
+    """No material of that name or alias in the library."""
+
+
+def load_material(path, strict: bool = False):
+    """Read one dispersion-data file (schema 1) and return its material.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+        A TOML file following the schema in ``DEVELOPERS.md``.
+    strict : bool, optional
+        If true, wavelengths outside the validity range raise instead of warning.
+
+    Returns
+    -------
+    IsotropicMaterial or UniaxialMaterial
+
+    Raises
+    ------
+    ValueError
+        Malformed TOML or any schema violation, in one line naming the file, the key, the value
+        and what is allowed.
+    OSError
+        The file cannot be read.
+    """
+    path = Path(path)
+    try:
+        with open(path, "rb") as fh:
+            data = tomllib.load(fh)
+    except tomllib.TOMLDecodeError as error:
+        raise ValueError(f"{path}: not valid TOML ({error})") from None
+    except UnicodeDecodeError as error:
+        raise ValueError(f"{path}: not valid UTF-8 TOML ({error.reason})") from None
+    material_ = material_from_dict(data, str(path))
+    return material_.with_strict(True) if strict else material_
+
+
+def save_material(material, path) -> Path:
+    """Write ``material`` as a schema-1 TOML file, atomically.
+
+    The document is written to a temporary file in the same folder and then moved over
+    ``path`` with ``os.replace``, so an existing file is never left half-written.
+
+    Parameters
+    ----------
+    material : IsotropicMaterial or UniaxialMaterial
+        The material to save; it must carry a :class:`~prismdesign.materials.Reference`.
+    path : str or os.PathLike
+        Destination file (conventionally ``<name>.toml``).
+
+    Returns
+    -------
+    pathlib.Path
+        The written path.
+    """
+    path = Path(path)
+    data = material_to_dict(material)
+    fd, temp_name = tempfile.mkstemp(dir=path.parent, prefix=f".{path.name}.", suffix=".tmp")
+    try:
+        with os.fdopen(fd, "wb") as fh:
+            tomli_w.dump(data, fh)
+            fh.flush()
+            os.fsync(fh.fileno())
+        os.replace(temp_name, path)
+    except BaseException:
+        Path(temp_name).unlink(missing_ok=True)
+        raise
+    return path
+
+
+def _key(name: str) -> str:
+    """Look-up key: lower case, Greek α/β spelled out, spaces, hyphens and underscores removed."""
+    text = name.casefold().replace("α", "alpha").replace("β", "beta")
+    return re.sub(r"[\s\-_]+", "", text)
+
+
+class MaterialLibrary:
+    """All materials in one folder of dispersion-data files, read once on first use.
+
+    Parameters
+    ----------
+    directory : path-like or importlib.resources.abc.Traversable
+        Folder holding ``*.toml`` files; each file name must be its material's name.
+    """
+
+    def __init__(self, directory):
+        self.directory = directory
+        self._by_key = None
+        self._materials = None
+
+    def _load(self):
+        if self._materials is not None:
+            return
+        found, by_key = {}, {}
+        if not self.directory.is_dir():
+            raise FileNotFoundError(f"dispersion data folder {self.directory} not found; the "
+                                    f"installation is incomplete (reinstall prismdesign)")
+        files = sorted((f for f in self.directory.iterdir() if f.name.endswith(".toml")),
+                       key=lambda f: f.name)
+        for file in files:
+            with importlib.resources.as_file(file) as real_path:
+                item = load_material(real_path)
+            stem = file.name[:-len(".toml")]
+            if item.name != stem:
+                raise ValueError(f"{file}: key 'name' = {item.name!r} must equal the file name "
+                                 f"{stem!r}")
+            found[item.name] = item
+            for label in (item.name, *item.aliases):
+                other = by_key.setdefault(_key(label), item.name)
+                if other != item.name:
+                    raise ValueError(f"{file}: name or alias {label!r} is already used by "
+                                     f"{other!r}; allowed: names unique in the library")
+        self._materials, self._by_key = found, by_key
+
+    def names(self) -> list:
+        """Sorted canonical names of all materials in the folder."""
+        self._load()
+        return sorted(self._materials)
+
+    def get(self, name: str, strict: bool = False):
+        """The material called ``name`` (or an alias); see :func:`material`."""
+        if not isinstance(name, str):
+            raise UnknownMaterialError(f"material name {name!r} must be a string")
+        self._load()
+        canonical = self._by_key.get(_key(name))
+        if canonical is None:
+            keys = difflib.get_close_matches(_key(name), list(self._by_key), n=8, cutoff=0.5)
+            close = list(dict.fromkeys(self._by_key[k] for k in keys))[:4]
+            hint = (f"closest matches: {', '.join(close)}" if close
+                    else f"known: {', '.join(self.names()) or '(none)'}")
+            raise UnknownMaterialError(f"unknown material {name!r}; {hint}")
+        item = self._materials[canonical]
+        return item.with_strict(True) if strict else item
+
+
+def _data_directory():
+    """Folder of the bundled data files (the installed package, else the repository folder)."""
+    try:
+        folder = importlib.resources.files("prismdesign.dispersion_data")
+        if folder.is_dir():
+            return folder
+    except ModuleNotFoundError:
+        pass
+    # An editable install may not map the data package; the repository folder is then the
+    # source of truth.
+    return Path(__file__).resolve().parents[2] / "dispersion_data"
+
+
+@functools.lru_cache(maxsize=1)
+def _bundled() -> MaterialLibrary:
+    return MaterialLibrary(_data_directory())
+
+
+def material(name: str, strict: bool = False):
+    """Look up a bundled material by name or alias.
+
+    Parameters
+    ----------
+    name : str
+        Canonical name or alias; case, spaces, hyphens and underscores are ignored
+        (``"alpha-BBO"`` = ``"Alpha_BBO"``).
+    strict : bool, optional
+        If true, the returned material raises ``ValueError`` for wavelengths outside its
+        validity range instead of warning.
+
+    Returns
+    -------
+    IsotropicMaterial or UniaxialMaterial
+
+    Raises
+    ------
+    UnknownMaterialError
+        No such name; the message lists the closest matches.
+    """
+    return _bundled().get(name, strict=strict)
+
+
+def materials() -> list:
+    """Sorted canonical names of the bundled materials (pass any to :func:`material`)."""
+    return _bundled().names()

@@ -1,0 +1,389 @@
+"""Material objects: isotropic and uniaxial media with published dispersion and provenance.
+
+Both kinds answer ``indices(wavelength_um, temperature_c=None) -> (n_o, n_e)`` (an isotropic
+medium returns ``(n, n)``), which is what the ray tracer uses.  Scalar input gives a float;
+arrays broadcast (wavelength against temperature).  The citation, validity range and data
+temperature travel with the object.
+"""
+from __future__ import annotations
+
+import sys
+import warnings
+from dataclasses import dataclass, field, replace
+from typing import Optional
+
+import numpy as np
+
+from .registry import FORMULAS, check_coefficients
+
+__all__ = [
+    "DispersionModel",
+    "DispersionRangeWarning",
+    "IsotropicMaterial",
+    "Reference",
+    "UniaxialMaterial",
+]
+
+
+class DispersionRangeWarning(UserWarning):
+    """A wavelength lies outside the range over which the dispersion data were fitted."""
+
+
+@dataclass(frozen=True)
+class Reference:
+    """Bibliographic source of a material's numbers.
+
+    Attributes
+    ----------
+    authors, title : str
+        As printed in the source.
+    journal, volume, pages : str
+        Journal (or book / standard) name, volume and page range; may be ``""`` for a book.
+    year : int
+        Publication year.
+    doi : str or None
+        Digital object identifier, when one exists.
+    """
+
+    authors: str
+    title: str
+    journal: str
+    volume: str
+    pages: str
+    year: int
+    doi: Optional[str] = None
+
+    @property
+    def short(self) -> str:
+        """First author's surname and the year, e.g. ``"Ghosh 1999"``.
+
+        Typical-value entries without a source read ``"typical values"``.
+        """
+        if self.authors.lower().startswith("none"):
+            return "typical values"
+        first = self.authors.replace(" and ", ",").replace(";", ",").split(",")[0].strip()
+        surname = first.split()[-1] if first.split() else first
+        return f"{surname} {self.year}"
+
+    def __str__(self) -> str:
+        parts = [self.authors, f'"{self.title}"']
+        where = " ".join(p for p in (self.journal, self.volume) if p)
+        if self.pages:
+            where = f"{where}, {self.pages}" if where else self.pages
+        if where:
+            parts.append(where)
+        text = ", ".join(parts) + f" ({self.year})"
+        return text + (f", doi:{self.doi}" if self.doi else "")
+
+
+@dataclass(frozen=True)
+class DispersionModel:
+    """One published dispersion formula with its coefficients.
+
+    Attributes
+    ----------
+    formula : str
+        A name from :data:`prismdesign.materials.formulas.FORMULAS` (e.g. ``"sellmeier"``).
+    coefficients : dict
+        Keyword coefficients of that formula as written in a data file (lists as tuples).
+    """
+
+    formula: str
+    coefficients: dict = field(hash=False)
+
+    def __post_init__(self):
+        formula, coeffs = check_coefficients({"formula": self.formula, **self.coefficients},
+                                             f"dispersion model {self.formula!r}")
+        object.__setattr__(self, "coefficients", coeffs)
+        object.__setattr__(self, "_kwargs", FORMULAS[formula].call_kwargs(coeffs))
+
+    def n(self, wavelength_um):
+        """Refractive index at ``wavelength_um`` (µm, any shape); no range checks."""
+        return FORMULAS[self.formula].n(wavelength_um, **self._kwargs)
+
+    def dn_dwl(self, wavelength_um):
+        """dn/dλ in µm⁻¹ at ``wavelength_um`` (µm, any shape); no range checks."""
+        return FORMULAS[self.formula].dn_dwl(wavelength_um, **self._kwargs)
+
+
+def _warn(message: str, category) -> None:
+    """Warn at the first frame outside this module, so the message points at the user's call."""
+    frame, level = sys._getframe(1), 2
+    while frame is not None and frame.f_globals.get("__name__") == __name__:
+        frame, level = frame.f_back, level + 1
+    warnings.warn(message, category, stacklevel=level)
+
+
+def _as_result(value, scalar: bool):
+    return float(value) if scalar else value
+
+
+@dataclass(frozen=True)
+class _MaterialBase:
+    """Range, temperature and warning logic shared by both kinds (not public)."""
+
+    def __post_init__(self):
+        lo, hi = self.validity_um
+        if not (0.0 < lo < hi and np.isfinite(hi)):
+            raise ValueError(f"{self.name}: validity_um = {list(self.validity_um)} must be two "
+                             f"increasing positive wavelengths in µm")
+        object.__setattr__(self, "validity_um", (float(lo), float(hi)))
+        object.__setattr__(self, "aliases", tuple(self.aliases))
+        if self.transparency_um is not None:
+            object.__setattr__(self, "transparency_um", tuple(map(float, self.transparency_um)))
+        # Evaluating the models across the band catches coefficient sets that go unphysical
+        # (n² ≤ 0, a pole) inside their own stated range.
+        grid = np.geomspace(lo, hi, 65)
+        for part, model in self._models().items():
+            try:
+                model.n(grid)
+            except ValueError as error:
+                raise ValueError(f"{self.name} [{part}]: {error}; this lies inside validity_um "
+                                 f"= {list(self.validity_um)}") from None
+
+    def _models(self):
+        raise NotImplementedError
+
+    def _wavelength(self, wavelength_um, strict):
+        try:
+            lam = np.asarray(wavelength_um, dtype=float)
+        except (TypeError, ValueError):
+            raise ValueError(f"wavelength_um = {wavelength_um!r} must be a number or an array "
+                             f"of numbers (µm)") from None
+        bad = ~np.isfinite(lam) | (lam <= 0.0)
+        if np.any(bad):
+            raise ValueError(f"wavelength_um = {float(lam[bad].flat[0])!r} must be positive and "
+                             f"finite (µm)")
+        lo, hi = self.validity_um
+        outside = (lam < lo) | (lam > hi)
+        if np.any(outside):
+            if lam.ndim == 0:
+                shown = f"wavelength_um = {float(lam):g} is"
+            else:
+                ends = ([f"down to {lam.min():g}"] if lam.min() < lo else []) + \
+                    ([f"up to {lam.max():g}"] if lam.max() > hi else [])
+                shown = f"wavelength_um {' and '.join(ends)} µm lies"
+            message = (f"{self.name}: {shown} outside the validity range {lo:g}-{hi:g} µm of "
+                       f"its dispersion data ({self._source()})")
+            if self.strict if strict is None else strict:
+                raise ValueError(message)
+            _warn(message + "; the values are extrapolated", DispersionRangeWarning)
+        return lam
+
+    def _source(self) -> str:
+        return self.reference.short if self.reference is not None else "no reference"
+
+    def _shift(self, temperature_c, dn_dt, strict):
+        """Linear thermo-optic change dn/dT·(T − T0); 0 when T is the data temperature."""
+        if temperature_c is None:
+            return 0.0
+        try:
+            t = np.asarray(temperature_c, dtype=float)
+        except (TypeError, ValueError):
+            raise ValueError(f"temperature_c = {temperature_c!r} must be a number (°C)") from None
+        if not np.all(np.isfinite(t)) or np.any(t < -273.15):
+            raise ValueError(f"temperature_c = {temperature_c!r} must be finite and above "
+                             f"-273.15 °C")
+        delta = t - self.temperature_c
+        if dn_dt is not None:
+            return dn_dt * delta
+        if np.any(delta != 0.0):
+            message = (f"{self.name}: no thermo-optic data; indices are for the data "
+                       f"temperature {self.temperature_c:g} °C, not temperature_c = "
+                       f"{temperature_c!r}")
+            if self.strict if strict is None else strict:
+                raise ValueError(message)
+            if "temperature" not in self._warned:
+                self._warned.add("temperature")
+                _warn(message, UserWarning)
+        return np.zeros_like(delta)
+
+    def _evaluate(self, model, dn_dt, wavelength_um, temperature_c, strict, group=False):
+        lam = self._wavelength(wavelength_um, strict)
+        return self._value(model, dn_dt, lam, temperature_c, strict, group)
+
+    def _value(self, model, dn_dt, lam, temperature_c, strict, group=False):
+        """Index (or group index) for an already checked wavelength array."""
+        shift = self._shift(temperature_c, dn_dt, strict)
+        try:
+            value = model.n(lam) + shift
+            if group:
+                value = value - lam * model.dn_dwl(lam)
+        except ValueError as error:
+            raise ValueError(f"{self.name}: {error}") from None
+        scalar = np.ndim(value) == 0
+        return _as_result(value, scalar)
+
+    def with_strict(self, strict: bool = True):
+        """A copy whose range (and temperature) problems raise instead of warning."""
+        return replace(self, strict=bool(strict))
+
+
+@dataclass(frozen=True)
+class IsotropicMaterial(_MaterialBase):
+    """An optically isotropic medium (glass, cement, gas, vacuum).
+
+    Attributes
+    ----------
+    name : str
+        Canonical lower-case name.
+    index : DispersionModel
+        Dispersion of the refractive index.
+    validity_um : tuple of float
+        (min, max) wavelength in µm over which the dispersion data hold.
+    temperature_c : float
+        Temperature of the data in °C.
+    reference : Reference or None
+        Source of the numbers.
+    aliases, transparency_um, notes
+        Alternative look-up names, transmission window (µm) and free-text remarks.
+    dn_dt_per_c : float or None
+        Linear thermo-optic coefficient in 1/°C, if published.
+    thermo_reference : str
+        Source of the thermo-optic coefficient.
+    strict : bool
+        Raise instead of warn for wavelengths outside ``validity_um``.
+    """
+
+    name: str
+    index: DispersionModel
+    validity_um: tuple
+    temperature_c: float
+    reference: Optional[Reference]
+    aliases: tuple = ()
+    transparency_um: Optional[tuple] = None
+    notes: str = ""
+    dn_dt_per_c: Optional[float] = None
+    thermo_reference: str = ""
+    strict: bool = False
+    _warned: set = field(default_factory=set, init=False, repr=False, compare=False, hash=False)
+
+    kind = "isotropic"
+    optical_sign = None
+
+    def _models(self):
+        return {"index": self.index}
+
+    def n(self, wavelength_um, temperature_c=None, *, strict=None):
+        """Refractive index at ``wavelength_um`` (µm); float for scalar input, else an array.
+
+        ``temperature_c`` (°C) defaults to the data temperature; ``strict`` overrides the
+        material's setting for out-of-range wavelengths.
+        """
+        return self._evaluate(self.index, self.dn_dt_per_c, wavelength_um, temperature_c, strict)
+
+    def group_index(self, wavelength_um, temperature_c=None, *, strict=None):
+        """Group index n − λ dn/dλ at ``wavelength_um`` (µm)."""
+        return self._evaluate(self.index, self.dn_dt_per_c, wavelength_um, temperature_c, strict,
+                              group=True)
+
+    def dn_dwl(self, wavelength_um, *, strict=None):
+        """dn/dλ in µm⁻¹ at ``wavelength_um`` (µm)."""
+        lam = self._wavelength(wavelength_um, strict)
+        return _as_result(self.index.dn_dwl(lam), lam.ndim == 0)
+
+    def indices(self, wavelength_um, temperature_c=None, *, strict=None):
+        """``(n, n)``: the same interface as :meth:`UniaxialMaterial.indices`."""
+        n = self.n(wavelength_um, temperature_c, strict=strict)
+        return n, n
+
+
+@dataclass(frozen=True)
+class UniaxialMaterial(_MaterialBase):
+    """A uniaxial crystal with ordinary and extraordinary dispersion.
+
+    Attributes
+    ----------
+    name : str
+        Canonical lower-case name.
+    ordinary, extraordinary : DispersionModel
+        Dispersion of n_o and n_e (n_e is the index for light polarised along the optic axis).
+    optical_sign : {"positive", "negative"}
+        Sign of n_e − n_o; checked against the data across the validity range.
+    validity_um, temperature_c, reference, aliases, transparency_um, notes, thermo_reference,
+    strict
+        As for :class:`IsotropicMaterial`.
+    dn_dt_o_per_c, dn_dt_e_per_c : float or None
+        Linear thermo-optic coefficients in 1/°C, if published.
+    """
+
+    name: str
+    ordinary: DispersionModel
+    extraordinary: DispersionModel
+    optical_sign: str
+    validity_um: tuple
+    temperature_c: float
+    reference: Optional[Reference]
+    aliases: tuple = ()
+    transparency_um: Optional[tuple] = None
+    notes: str = ""
+    dn_dt_o_per_c: Optional[float] = None
+    dn_dt_e_per_c: Optional[float] = None
+    thermo_reference: str = ""
+    strict: bool = False
+    _warned: set = field(default_factory=set, init=False, repr=False, compare=False, hash=False)
+
+    kind = "uniaxial"
+
+    def __post_init__(self):
+        if self.optical_sign not in ("positive", "negative"):
+            raise ValueError(f"{self.name}: optical_sign = {self.optical_sign!r}; allowed: "
+                             f"'positive', 'negative'")
+        if (self.dn_dt_o_per_c is None) != (self.dn_dt_e_per_c is None):
+            raise ValueError(f"{self.name}: give both dn_dt_o_per_c and dn_dt_e_per_c or neither")
+        super().__post_init__()
+        grid = np.geomspace(*self.validity_um, 65)
+        mean_dn = float(np.mean(self.extraordinary.n(grid) - self.ordinary.n(grid)))
+        data_sign = "positive" if mean_dn > 0 else "negative"
+        if data_sign != self.optical_sign:
+            raise ValueError(f"{self.name}: optical_sign = {self.optical_sign!r} but the data give "
+                             f"mean n_e - n_o = {mean_dn:.3g} over {self.validity_um} µm; "
+                             f"allowed: {data_sign!r}")
+
+    def _models(self):
+        return {"ordinary": self.ordinary, "extraordinary": self.extraordinary}
+
+    def n_o(self, wavelength_um, temperature_c=None, *, strict=None):
+        """Ordinary index at ``wavelength_um`` (µm); float for scalar input, else an array.
+
+        ``temperature_c`` (°C) defaults to the data temperature; ``strict`` overrides the
+        material's setting for out-of-range wavelengths.
+        """
+        return self._evaluate(self.ordinary, self.dn_dt_o_per_c, wavelength_um, temperature_c,
+                              strict)
+
+    def n_e(self, wavelength_um, temperature_c=None, *, strict=None):
+        """Extraordinary (principal) index at ``wavelength_um`` (µm)."""
+        return self._evaluate(self.extraordinary, self.dn_dt_e_per_c, wavelength_um,
+                              temperature_c, strict)
+
+    def indices(self, wavelength_um, temperature_c=None, *, strict=None):
+        """``(n_o, n_e)`` at ``wavelength_um`` (µm), with one range check."""
+        lam = self._wavelength(wavelength_um, strict)
+        return (self._value(self.ordinary, self.dn_dt_o_per_c, lam, temperature_c, strict),
+                self._value(self.extraordinary, self.dn_dt_e_per_c, lam, temperature_c, strict))
+
+    def birefringence(self, wavelength_um, temperature_c=None, *, strict=None):
+        """Signed birefringence n_e − n_o at ``wavelength_um`` (µm)."""
+        n_o, n_e = self.indices(wavelength_um, temperature_c, strict=strict)
+        return n_e - n_o
+
+    def group_index_o(self, wavelength_um, temperature_c=None, *, strict=None):
+        """Ordinary group index n_o − λ dn_o/dλ at ``wavelength_um`` (µm)."""
+        return self._evaluate(self.ordinary, self.dn_dt_o_per_c, wavelength_um, temperature_c,
+                              strict, group=True)
+
+    def group_index_e(self, wavelength_um, temperature_c=None, *, strict=None):
+        """Extraordinary group index n_e − λ dn_e/dλ at ``wavelength_um`` (µm)."""
+        return self._evaluate(self.extraordinary, self.dn_dt_e_per_c, wavelength_um,
+                              temperature_c, strict, group=True)
+
+    def dn_dwl_o(self, wavelength_um, *, strict=None):
+        """dn_o/dλ in µm⁻¹ at ``wavelength_um`` (µm)."""
+        lam = self._wavelength(wavelength_um, strict)
+        return _as_result(self.ordinary.dn_dwl(lam), lam.ndim == 0)
+
+    def dn_dwl_e(self, wavelength_um, *, strict=None):
+        """dn_e/dλ in µm⁻¹ at ``wavelength_um`` (µm)."""
+        lam = self._wavelength(wavelength_um, strict)
+        return _as_result(self.extraordinary.dn_dwl(lam), lam.ndim == 0)

@@ -1,0 +1,111 @@
+"""The command line, run in-process through ``main``."""
+import numpy as np
+import pytest
+
+from prismdesign import material, materials
+from prismdesign.cli import main
+
+
+def run(capsys, *argv):
+    code = main(list(argv))
+    out, err = capsys.readouterr()
+    return code, out, err
+
+
+def test_materials_lists_every_entry(capsys):
+    code, out, err = run(capsys, "materials")
+    assert code == 0 and err == ""
+    lines = out.splitlines()
+    assert lines[0].split()[:4] == ["name", "kind", "sign", "band"]
+    body = {line.split()[0]: line.split() for line in lines[2:]}
+    assert set(body) == set(materials())
+    calcite = material("calcite")
+    row = body["calcite"]
+    assert row[1:3] == ["uniaxial", "negative"]
+    assert float(row[4]) == pytest.approx(calcite.birefringence(0.6328), abs=1e-5)
+    assert " ".join(row[5:]) == calcite.reference.short
+    assert body["vacuum"][2] == "-" and body["vacuum"][4] == "-"
+
+
+def test_index_table(capsys):
+    code, out, err = run(capsys, "index", "alpha-BBO", "--band", "0.4", "1.0", "--points", "7")
+    assert code == 0 and err == ""
+    item = material("alpha-BBO")
+    assert str(item.reference) in out
+    rows = [line.split() for line in out.splitlines() if line[:1].isdigit()]
+    assert len(rows) == 7
+    lam = np.array([float(r[0]) for r in rows])
+    np.testing.assert_allclose(lam, np.linspace(0.4, 1.0, 7))
+    values = np.array([[float(x) for x in r[1:]] for r in rows])
+    np.testing.assert_allclose(values[:, 0], item.n_o(lam), atol=1e-6)
+    np.testing.assert_allclose(values[:, 1], item.n_e(lam), atol=1e-6)
+    np.testing.assert_allclose(values[:, 2], item.birefringence(lam), atol=1e-6)
+    np.testing.assert_allclose(values[:, 3], item.group_index_o(lam), atol=1e-6)
+    np.testing.assert_allclose(values[:, 4], item.group_index_e(lam), atol=1e-6)
+
+
+def test_index_isotropic_prints_n_only(capsys):
+    code, out, _ = run(capsys, "index", "fused silica", "--band", "0.5", "0.6", "--points", "2")
+    assert code == 0
+    assert "n_o" not in out and "group n" in out
+    rows = [line.split() for line in out.splitlines() if line[:1].isdigit()]
+    assert float(rows[0][1]) == pytest.approx(material("fused_silica").n(0.5), abs=1e-6)
+
+
+def test_index_out_of_band_warns_on_stderr(capsys):
+    code, out, err = run(capsys, "index", "calcite", "--band", "1.0", "3.0", "--points", "3")
+    assert code == 0
+    assert err.startswith("warning: calcite: wavelength_um up to 3 µm lies outside")
+    assert len(err.strip().splitlines()) == 1
+
+
+def test_index_plot_writes_png(capsys, tmp_path):
+    target = tmp_path / "calcite.png"
+    code, out, _ = run(capsys, "index", "calcite", "--plot", str(target))
+    assert code == 0 and f"wrote {target}" in out
+    data = target.read_bytes()
+    assert data[:8] == b"\x89PNG\r\n\x1a\n" and len(data) > 20_000
+
+
+def test_unknown_material_is_one_line_exit_2(capsys):
+    code, out, err = run(capsys, "index", "calcit")
+    assert code == 2 and out == ""
+    assert err.strip() == ("prismdesign index: error: unknown material 'calcit'; closest "
+                           "matches: " + err.split("closest matches: ")[1].strip())
+    assert "calcite" in err and len(err.strip().splitlines()) == 1
+    assert "Traceback" not in err
+
+
+@pytest.mark.parametrize("argv, pattern", [
+    (["index", "calcite", "--band", "0", "1"], "--band 0 1: need two increasing positive"),
+    (["index", "calcite", "--band", "1", "0.5"], "--band 1 0.5"),
+    (["index", "calcite", "--points", "1"], "--points 1: need at least 2"),
+    (["index", "calcite", "--temperature", "-300"], "temperature_c = -300.0 must be finite"),
+])
+def test_bad_arguments_exit_2(capsys, argv, pattern):
+    code, out, err = run(capsys, *argv)
+    assert code == 2 and pattern in err and len(err.strip().splitlines()) == 1
+
+
+def test_argparse_errors_exit_2(capsys):
+    with pytest.raises(SystemExit) as info:
+        main(["index"])
+    assert info.value.code == 2
+    with pytest.raises(SystemExit):
+        main(["no-such-command"])
+
+
+def test_demo_writes_its_files(capsys, tmp_path):
+    code, out, err = run(capsys, "demo", "--out", str(tmp_path / "demo"))
+    assert code == 0
+    for name in ("calcite", "quartz", "alpha_bbo", "yvo4"):
+        assert name in out
+    assert "IEC 60825-1" in out
+    png = tmp_path / "demo" / "birefringence_0.8-1.0um.png"
+    csv = tmp_path / "demo" / "birefringence_0.8-1.0um.csv"
+    assert png.read_bytes()[:4] == b"\x89PNG"
+    rows = csv.read_text().splitlines()
+    assert rows[0] == "material,source,wavelength_um,n_o,n_e,birefringence"
+    first = rows[1].split(",")
+    assert first[0] == "calcite" and float(first[2]) == 0.8
+    assert float(first[5]) == pytest.approx(material("calcite").birefringence(0.8), abs=1e-6)
