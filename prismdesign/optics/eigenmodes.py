@@ -15,9 +15,9 @@ solver passes the surface normal in its place, which turns the o/e pair into the
 """
 import numpy as np
 
-from .vectors import cross, dot, hermitian_norm, hermitian_normalize, normalize
+from .vectors import cross, dot, hermitian_norm, hermitian_normalize, norm, normalize
 
-__all__ = ["DEGENERATE_AXIS_TOLERANCE", "normal_components", "mode_fields",
+__all__ = ["DEGENERATE_AXIS_TOLERANCE", "normal_components", "normal_roots", "mode_fields",
            "extraordinary_index", "plane_wave_modes", "PlaneWaveModes"]
 
 #: |k̂ × ĉ| below which the o/e split is taken as degenerate (wave normal along the optic axis)
@@ -58,21 +58,50 @@ def normal_components(k_tangential, normal, n_o, n_e, optic_axis):
     and the principal complex square root makes the same choice for evanescent roots.
     """
     kt2 = dot(k_tangential, k_tangential)
-    no2 = n_o * n_o
-    ne2 = n_e * n_e
-    delta = ne2 - no2
     c_n = dot(optic_axis, normal)
     c_t = dot(optic_axis, k_tangential)
+    q_to, q_te, q_ro, q_re, evan_o, evan_e = normal_roots(kt2, c_t, c_n, n_o, n_e)
+    q = np.stack(np.broadcast_arrays(q_to, q_te, q_ro, q_re), axis=-1).astype(complex)
+    evanescent = np.stack(np.broadcast_arrays(evan_o, evan_e, evan_o, evan_e), axis=-1)
+    return q, evanescent
+
+
+def _signed_root(disc):
+    """√disc: real where disc ≥ 0, +i√|disc| (principal branch) where it is negative."""
+    root = np.sqrt(np.abs(disc))
+    negative = disc < 0
+    if negative.any():
+        root = np.where(negative, 1j * root, root)
+    return root
+
+
+def normal_roots(kt2, c_t, c_n, n_o, n_e):
+    """Array-level core of :func:`normal_components` (no vectors, no stacking).
+
+    Parameters
+    ----------
+    kt2 : ndarray
+        |k_t|².
+    c_t, c_n : ndarray
+        ĉ·k_t and ĉ·N̂.
+    n_o, n_e : ndarray
+
+    Returns
+    -------
+    q_o_forward, q_e_forward, q_o_backward, q_e_backward : ndarray
+        Real unless a root is evanescent.
+    evanescent_o, evanescent_e : ndarray of bool
+    """
+    no2 = n_o * n_o
+    delta = n_e * n_e - no2
     a = no2 + delta * c_n * c_n
     b = delta * c_t * c_n
-    c0 = no2 * kt2 + delta * c_t * c_t - no2 * ne2
+    c0 = no2 * kt2 + delta * c_t * c_t - no2 * n_e * n_e
     disc_e = b * b - a * c0
     disc_o = no2 - kt2
-    root_o = np.sqrt(disc_o.astype(complex))
-    root_e = np.sqrt(disc_e.astype(complex))
-    q = np.stack([root_o, (-b + root_e) / a, -root_o, (-b - root_e) / a], axis=-1)
-    evanescent = np.stack([disc_o <= 0, disc_e <= 0] * 2, axis=-1)
-    return q, evanescent
+    root_o = _signed_root(disc_o)
+    root_e = _signed_root(disc_e)
+    return root_o, (root_e - b) / a, -root_o, (-b - root_e) / a, disc_o <= 0, disc_e <= 0
 
 
 def _fallback_direction(wave_vector, normal):
@@ -183,10 +212,15 @@ def plane_wave_modes(wave_normal, n_o, n_e, optic_axis):
     results = {}
     for mode, index in (("o", n_o), ("e", index_e)):
         k = u * index[..., None]
-        e_field, h_field = mode_fields(k, n_o, n_e, c, u, mode)
-        ray = normalize(np.real(cross(e_field, np.conj(h_field))))
+        e_field, _ = mode_fields(k, n_o, n_e, c, u, mode)
+        # Exact ray directions: S ∥ k for the o-wave and S ∥ εk for the e-wave (Born & Wolf
+        # §15.2), rather than E × H* computed from fields that are imprecise near the axis.
+        ray = u if mode == "o" else normalize(
+            k * (n_o * n_o)[..., None] + ((n_e * n_e - n_o * n_o) * dot(c, k))[..., None] * c)
         results[mode] = (e_field, ray)
-    walkoff = np.arccos(np.clip(dot(results["e"][1], u), -1.0, 1.0))
+    ray_e = results["e"][1]
+    # arctan2 keeps full relative precision for small walk-off angles (arccos would not).
+    walkoff = np.arctan2(norm(cross(u, ray_e)), dot(u, ray_e))
     return PlaneWaveModes(index_o=n_o, index_e=index_e, field_o=results["o"][0],
                           field_e=results["e"][0], ray_direction_o=results["o"][1],
                           ray_direction_e=results["e"][1], walkoff_rad=walkoff)

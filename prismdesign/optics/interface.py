@@ -22,7 +22,7 @@ from concurrent.futures import ThreadPoolExecutor
 
 import numpy as np
 
-from .eigenmodes import DEGENERATE_AXIS_TOLERANCE, normal_components
+from .eigenmodes import DEGENERATE_AXIS_TOLERANCE, normal_roots
 from .linear4 import solve4_components
 from .thin_layer import layer_transfer_matrix
 from .vectors import cross, dot, normalize
@@ -62,7 +62,7 @@ class InterfaceResult:
         and H = k × E.
     """
     __slots__ = ("coefficient", "power_fraction", "evanescent", "singular", "normal",
-                 "normal_component", "_u1", "_u2", "_kappa", "_local_e", "_cache")
+                 "normal_component", "_u1", "_u2", "_kappa", "_local_e", "_local_ray", "_cache")
 
     def __init__(self, **values):
         for key, value in values.items():
@@ -97,7 +97,7 @@ class InterfaceResult:
     @property
     def ray_direction(self):
         if "s" not in self._cache:
-            self._cache["s"] = normalize(np.real(cross(self.e_field, np.conj(self.h_field))))
+            self._cache["s"] = self._to_global(self._local_ray)
         return self._cache["s"]
 
     @property
@@ -144,21 +144,25 @@ def _solve_block(k_in, e_in, normal, n_o1, n_e1, c1, n_o2, n_e2, c2, layer):
                             * (ex * kx + ey * ky + ez * kz)).real
     flip = np.where(flux_sign < 0, -1.0, 1.0)
     nx, ny, nz, k_n = nx * flip, ny * flip, nz * flip, k_n * flip
-    tx, ty, tz = kx - k_n * nx, ky - k_n * ny, kz - k_n * nz
-    kappa = np.sqrt(tx * tx + ty * ty + tz * tz)
-    at_normal = kappa < 1e-12
+    # û₂ = N̂ × k / |N̂ × k| and û₁ = û₂ × N̂: the cross product gives the tangential part
+    # without the cancellation of k − (k·N̂)N̂ near normal incidence, and û₁ ⟂ N̂ to rounding.
+    wx, wy, wz = ny * kz - nz * ky, nz * kx - nx * kz, nx * ky - ny * kx
+    kappa = np.sqrt(wx * wx + wy * wy + wz * wz)
+    at_normal = kappa < 1e-15
     if at_normal.any():
-        # Any tangential direction will do: project x̂ (or ŷ) into the surface.
+        # Any tangential direction will do: û₂ = N̂ × x̂ (or N̂ × ŷ when N̂ is near x̂).
         along_x = np.abs(nx) > 0.9
         rx, ry = np.where(along_x, 0.0, 1.0), np.where(along_x, 1.0, 0.0)
-        rn = rx * nx + ry * ny
-        tx = np.where(at_normal, rx - rn * nx, tx)
-        ty = np.where(at_normal, ry - rn * ny, ty)
-        tz = np.where(at_normal, -rn * nz, tz)
+        wx = np.where(at_normal, -nz * ry, wx)
+        wy = np.where(at_normal, nz * rx, wy)
+        wz = np.where(at_normal, nx * ry - ny * rx, wz)
         kappa = np.where(at_normal, 0.0, kappa)
-    t_len = np.sqrt(tx * tx + ty * ty + tz * tz)
-    u1 = np.stack([tx / t_len, ty / t_len, tz / t_len])
-    u2 = np.stack([ny * u1[2] - nz * u1[1], nz * u1[0] - nx * u1[2], nx * u1[1] - ny * u1[0]])
+    # Rounding leaves N̂ × k off perpendicular by ~1e-16/|k_t|: project it back onto the surface.
+    w_n = wx * nx + wy * ny + wz * nz
+    wx, wy, wz = wx - w_n * nx, wy - w_n * ny, wz - w_n * nz
+    w_len = np.sqrt(wx * wx + wy * wy + wz * wz)
+    u2 = np.stack([wx / w_len, wy / w_len, wz / w_len])
+    u1 = np.stack([u2[1] * nz - u2[2] * ny, u2[2] * nx - u2[0] * nz, u2[0] * ny - u2[1] * nx])
     n_vec = np.stack([nx, ny, nz])
 
     # Incident field in the local frame; H = k × E with k = (κ, 0, k_n).
@@ -178,15 +182,12 @@ def _solve_block(k_in, e_in, normal, n_o1, n_e1, c1, n_o2, n_e2, c2, layer):
 
     a2 = local_axis(c2, n_o2, n_e2)
     a1 = local_axis(c1, n_o1, n_e1)
-    zeros = np.zeros_like(kappa)
-    kt_loc = np.stack([kappa, zeros, zeros], axis=-1)
-    n_loc = np.stack([zeros, zeros, zeros + 1.0], axis=-1)
-    q2, ev2 = normal_components(kt_loc, n_loc, n_o2, n_e2, np.stack(a2, axis=-1))
-    q1, ev1 = normal_components(kt_loc, n_loc, n_o1, n_e1, np.stack(a1, axis=-1))
-    q = np.stack([q2[:, 0], q2[:, 1], q1[:, 2], q1[:, 3]])
-    evanescent = np.stack([ev2[:, 0], ev2[:, 1], ev1[:, 2], ev1[:, 3]])
-    if not (evanescent.any() or layer is not None):
-        q = q.real
+    kappa2 = kappa * kappa
+    t2o, t2e, _, _, ev2o, ev2e = normal_roots(kappa2, kappa * a2[0], a2[2], n_o2, n_e2)
+    _, _, r1o, r1e, ev1o, ev1e = normal_roots(kappa2, kappa * a1[0], a1[2], n_o1, n_e1)
+    evanescent = np.stack([ev2o, ev2e, ev1o, ev1e])
+    complex_case = evanescent.any() or layer is not None
+    q = np.stack([t2o, t2e, r1o, r1e]).astype(complex if complex_case else float)
     n_o = np.stack([n_o2, n_o2, n_o1, n_o1])
     n_e = np.stack([n_e2, n_e2, n_e1, n_e1])
     cx, cy, cz = (np.stack([a2[i], a2[i], a1[i], a1[i]]) for i in range(3))
@@ -199,6 +200,9 @@ def _solve_block(k_in, e_in, normal, n_o1, n_e1, c1, n_o2, n_e2, c2, layer):
     fx = np.stack([f[0] for f in fields])
     fy = np.stack([f[1] for f in fields])
     fz = np.stack([f[2] for f in fields])
+    # Unit fields (hermitian norm) keep the boundary system well scaled.
+    size = np.sqrt((fx * fx.conjugate() + fy * fy.conjugate() + fz * fz.conjugate()).real)
+    fx, fy, fz = fx / size, fy / size, fz / size
     hx = -q * fy
     hy = q * fx - kappa * fz
     # Columns of the boundary system: tangential (E₁, E₂, H₁, H₂) of each outgoing wave.
@@ -212,17 +216,34 @@ def _solve_block(k_in, e_in, normal, n_o1, n_e1, c1, n_o2, n_e2, c2, layer):
         reflected = np.einsum("ijm,jwm->iwm", m, cols[:, 2:])
         matrix = np.concatenate([cols[:, :2], -reflected], axis=1)
         rhs = np.einsum("ijm,jm->im", m, rhs)
-    coefficient, singular = solve4_components(matrix, rhs)  # (wave, m)
+    coefficient, singular = solve4_components(matrix, rhs, equilibrate=layer is not None)
 
     flux = (fx * hy.conjugate() - fy * hx.conjugate()).real
-    size = np.sqrt((fx * fx.conjugate() + fy * fy.conjugate() + fz * fz.conjugate()).real)
     power = (coefficient * coefficient.conjugate()).real * np.abs(flux)
     power_fraction = np.where(evanescent, 0.0, power / np.where(flux_in > 0, flux_in, 1.0))
-    local_e = np.stack([fx / size, fy / size, fz / size], axis=-1)   # (wave, m, 3)
-    return dict(coefficient=(coefficient * size).T, power_fraction=power_fraction.T,
+    local_e = np.stack([fx, fy, fz], axis=-1)   # (wave, m, 3)
+    # Ray directions from the closed forms S ∥ k (o) and S ∥ εk (e), exact even where the
+    # fields lose digits near the optic axis; εk = n_o² k + (n_e² − n_o²)(ĉ·k) ĉ.
+    qr = q.real
+    delta = n_e * n_e - n_o * n_o
+    ck = delta * (cx * kappa + cz * qr)
+    odd = np.array([[0.0], [1.0], [0.0], [1.0]])      # e-waves only
+    sx = n_o * n_o * kappa + odd * ck * cx
+    sy = odd * ck * cy
+    sz = n_o * n_o * qr + odd * ck * cz
+    if complex_case and evanescent.any():
+        # Evanescent waves: the time-averaged energy flow Re(E × H*) runs along the surface.
+        hz = kappa * fy
+        ex_ = (fy * hz.conjugate() - fz * hy.conjugate()).real
+        ey_ = (fz * hx.conjugate() - fx * hz.conjugate()).real
+        ez_ = (fx * hy.conjugate() - fy * hx.conjugate()).real
+        sx, sy, sz = (np.where(evanescent, a, b) for a, b in ((ex_, sx), (ey_, sy), (ez_, sz)))
+    s_len = np.sqrt(sx * sx + sy * sy + sz * sz)
+    local_ray = np.stack([sx / s_len, sy / s_len, sz / s_len], axis=-1)
+    return dict(coefficient=coefficient.T, power_fraction=power_fraction.T,
                 evanescent=evanescent.T, singular=singular, normal=n_vec.T,
                 normal_component=q.T, _u1=u1.T, _u2=u2.T, _kappa=kappa,
-                _local_e=np.moveaxis(local_e, 0, 1))
+                _local_e=np.moveaxis(local_e, 0, 1), _local_ray=np.moveaxis(local_ray, 0, 1))
 
 
 def solve_interface(wave_vector_in, field_in, normal, indices_1, axis_1, indices_2, axis_2,
@@ -276,7 +297,7 @@ def solve_interface(wave_vector_in, field_in, normal, indices_1, axis_1, indices
            "evanescent": np.empty((size, 4), bool), "singular": np.empty(size, bool),
            "normal": np.empty((size, 3)), "normal_component": np.empty((size, 4), complex),
            "_u1": np.empty((size, 3)), "_u2": np.empty((size, 3)), "_kappa": np.empty(size),
-           "_local_e": np.empty((size, 4, 3), complex)}
+           "_local_e": np.empty((size, 4, 3), complex), "_local_ray": np.empty((size, 4, 3))}
 
     def run(start):
         block = slice(start, min(start + BLOCK_SIZE, size))

@@ -14,7 +14,7 @@ def _magnitude(a):
     return np.abs(a.real) + np.abs(a.imag) if np.iscomplexobj(a) else np.abs(a)
 
 
-def solve4_components(a, b):
+def solve4_components(a, b, equilibrate=True):
     """Solve A x = b for 4 × 4 systems stored component-first.
 
     Parameters
@@ -22,6 +22,9 @@ def solve4_components(a, b):
     a : ndarray, shape (4, 4, m)
         a[i, j] is the batch of entries (i, j).
     b : ndarray, shape (4, m)
+    equilibrate : bool
+        Scale columns and rows first. Callers whose columns are already of order one (unit
+        fields) may skip it; the singularity test then uses the product of column norms.
 
     Returns
     -------
@@ -37,11 +40,16 @@ def solve4_components(a, b):
     from the Laplace expansion along rows (0, 1): six 2 × 2 minors of rows (0, 1) and six of rows
     (2, 3).
     """
-    col_scale = 1.0 / np.maximum(np.max(_magnitude(a), axis=0), 1e-300)     # (4, m)
-    a = a * col_scale[None, :, :]
-    row_scale = 1.0 / np.maximum(np.max(_magnitude(a), axis=1), 1e-300)     # (4, m)
-    a = a * row_scale[:, None, :]
-    b = b * row_scale
+    if equilibrate:
+        col_scale = 1.0 / np.maximum(np.max(_magnitude(a), axis=0), 1e-300)     # (4, m)
+        a = a * col_scale[None, :, :]
+        row_scale = 1.0 / np.maximum(np.max(_magnitude(a), axis=1), 1e-300)     # (4, m)
+        a = a * row_scale[:, None, :]
+        b = b * row_scale
+        det_scale = 1.0
+    else:
+        col_scale = 1.0
+        det_scale = np.prod(np.sqrt((_magnitude(a) ** 2).sum(axis=0)), axis=0)
     (a00, a01, a02, a03), (a10, a11, a12, a13), (a20, a21, a22, a23), (a30, a31, a32, a33) = a
     s0 = a00 * a11 - a10 * a01
     s1 = a00 * a12 - a10 * a02
@@ -66,7 +74,7 @@ def solve4_components(a, b):
           + (a30 * s4 - a31 * s2 + a33 * s0) * b2 + (-a20 * s4 + a21 * s2 - a23 * s0) * b3)
     x3 = ((-a10 * c3 + a11 * c1 - a12 * c0) * b0 + (a00 * c3 - a01 * c1 + a02 * c0) * b1
           + (-a30 * s3 + a31 * s1 - a32 * s0) * b2 + (a20 * s3 - a21 * s1 + a22 * s0) * b3)
-    singular = ~(_magnitude(det) > 1e-14)
+    singular = ~(_magnitude(det) > 1e-14 * det_scale)
     inv_det = np.where(singular, 0.0, 1.0 / np.where(singular, 1.0, det))
     x = np.stack([x0, x1, x2, x3]) * (inv_det * col_scale)
     return x, singular
