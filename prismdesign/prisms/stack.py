@@ -1,0 +1,159 @@
+"""Shared geometry of stacked pieces: plates and wedges between faces tilted about y.
+
+Every piece sits between two plane faces. The entrance face is z = 0 with normal +z; the exit
+face of piece i is tilted about the y axis by a signed angle α_i from the entrance plane (its
+normal is (sin α_i, 0, cos α_i), so a positive angle tilts the normal toward +x). Each piece is
+given its thinnest thickness along z over the clear aperture x ∈ [−w/2, w/2]; the face centres
+follow from that. Plates (all α = 0), Wollaston-type wedge pairs and free stacks are all cases.
+
+Optic axes are global unit vectors; they may be given as named directions ("x", "y", "z"), as a
+(polar_deg, azimuth_deg) pair (polar angle from z, azimuth from x, see
+:func:`~prismdesign.optics.optic_axis_from_angles`) or as a 3-vector.
+"""
+import numpy as np
+
+from ..materials import material as library_material
+from ..optics import FixedIndices, ThinLayer, optic_axis_from_angles
+from ..optics.vectors import as_unit_vectors
+from .base import Boundary, Piece, Prism, check_positive
+
+__all__ = ["resolve_material", "resolve_axis", "interface_layer", "stacked_prism"]
+
+_NAMED_AXES = {"x": (1.0, 0.0, 0.0), "y": (0.0, 1.0, 0.0), "z": (0.0, 0.0, 1.0)}
+
+
+def resolve_material(value, name="material"):
+    """A library material from a name, or the object itself (must offer ``indices``)."""
+    if isinstance(value, str):
+        return library_material(value)
+    if not hasattr(value, "indices"):
+        raise ValueError(f"{name} must be a material name or a material object, got {value!r}")
+    return value
+
+
+def resolve_axis(axis, name="optic_axis"):
+    """Unit optic axis from "x"/"y"/"z", a (polar_deg, azimuth_deg) pair or a 3-vector.
+
+    Returns
+    -------
+    ndarray, shape (3,), or None when `axis` is None (isotropic piece).
+    """
+    if axis is None:
+        return None
+    if isinstance(axis, str):
+        if axis not in _NAMED_AXES:
+            raise ValueError(f"{name} must be 'x', 'y', 'z', (polar_deg, azimuth_deg) or a "
+                             f"3-vector, got {axis!r}")
+        return np.array(_NAMED_AXES[axis])
+    try:
+        values = np.asarray(axis, dtype=float)
+    except (TypeError, ValueError):
+        raise ValueError(f"{name} must be 'x', 'y', 'z', (polar_deg, azimuth_deg) or a "
+                         f"3-vector, got {axis!r}") from None
+    if values.shape == (2,) and np.all(np.isfinite(values)):
+        return optic_axis_from_angles(values[0], values[1])
+    if values.shape == (3,):
+        return as_unit_vectors(values, name)
+    raise ValueError(f"{name} must be 'x', 'y', 'z', (polar_deg, azimuth_deg) or a 3-vector, "
+                     f"got {axis!r}")
+
+
+def interface_layer(material="optical_cement", thickness_mm=0.01):
+    """A coherent thin layer for an internal interface: cement film or narrow air gap.
+
+    Parameters
+    ----------
+    material : str, float or material
+        Library name (e.g. "optical_cement", "air", "index_matching_gel"), a fixed refractive
+        index, or a material object. Must be isotropic.
+    thickness_mm : float
+        Layer thickness in mm (0.01 = 10 µm); zero is allowed (no effect).
+
+    Returns
+    -------
+    ThinLayer
+    """
+    if isinstance(material, (int, float)) and not isinstance(material, bool):
+        medium = FixedIndices(float(check_positive("layer index", material)), name="layer")
+    else:
+        medium = resolve_material(material, "layer material")
+    if getattr(medium, "kind", "isotropic") != "isotropic":
+        raise ValueError(f"layer material must be isotropic, got {getattr(medium, 'name', medium)!r} "
+                         f"({medium.kind})")
+    try:
+        t = float(thickness_mm)
+    except (TypeError, ValueError):
+        raise ValueError(f"layer thickness_mm must be a number >= 0, got {thickness_mm!r}") from None
+    if not (np.isfinite(t) and t >= 0):
+        raise ValueError(f"layer thickness_mm must be a number >= 0, got {thickness_mm!r}")
+    return ThinLayer(medium, t)
+
+
+def stacked_prism(kind, pieces, exit_face_deg, thickness_mm, *, width_mm, height_mm,
+                  design_wavelength_um, layers=None, coated=False, parameters=None,
+                  surround=None):
+    """Build a :class:`Prism` from pieces between faces tilted about y.
+
+    Parameters
+    ----------
+    kind : str
+        Catalogue name stored on the prism.
+    pieces : sequence of Piece
+    exit_face_deg : sequence of float
+        Signed tilt of each piece's exit face from the entrance plane (degrees, |α| < 80).
+    thickness_mm : sequence of float
+        Thinnest z-thickness of each piece across the clear aperture (mm, > 0).
+    width_mm, height_mm : float
+        Clear aperture along x and y (mm).
+    design_wavelength_um : float
+    layers : sequence of (ThinLayer or None), optional
+        One per internal interface (``len(pieces) − 1``).
+    coated : bool
+        Ideal antireflection coatings on the entrance and exit faces.
+    parameters : dict, optional
+        Builder inputs stored on the prism.
+    surround : material, optional
+        Medium around the prism (default air).
+
+    Returns
+    -------
+    Prism
+    """
+    width = check_positive("width_mm", width_mm)
+    height = check_positive("height_mm", height_mm)
+    design = check_positive("design_wavelength_um", design_wavelength_um)
+    count = len(pieces)
+    if count == 0:
+        raise ValueError("a stack needs at least one piece, got none")
+    if len(exit_face_deg) != count or len(thickness_mm) != count:
+        raise ValueError(f"a stack needs one exit-face angle and one thickness per piece, got "
+                         f"{len(exit_face_deg)} angles and {len(thickness_mm)} thicknesses for "
+                         f"{count} pieces")
+    layers = [None] * (count - 1) if layers is None else list(layers)
+    if len(layers) != count - 1:
+        raise ValueError(f"a stack of {count} pieces has {count - 1} internal interfaces, got "
+                         f"{len(layers)} interface layers")
+    for i, layer in enumerate(layers):
+        if layer is not None and not isinstance(layer, ThinLayer):
+            raise ValueError(f"interface layer {i} must be None or a ThinLayer (see "
+                             f"interface_layer()), got {layer!r}")
+    half = 0.5 * width
+    boundaries = [Boundary((0.0, 0.0, 0.0), (0.0, 0.0, 1.0), coated=coated, label="entrance face")]
+    previous_tan, z_centre = 0.0, 0.0
+    for i, (angle, thick) in enumerate(zip(exit_face_deg, thickness_mm)):
+        alpha = np.deg2rad(float(angle))
+        if not (np.isfinite(alpha) and abs(alpha) < np.deg2rad(80.0)):
+            raise ValueError(f"exit face angle of piece {i} must lie between -80 and 80 degrees, "
+                             f"got {angle!r}")
+        thick = check_positive(f"thickness_mm of piece {i}", thick)
+        # A face through (0, 0, z_c) with normal (sin α, 0, cos α) sits at z = z_c − x tan α;
+        # the piece is thinnest where its two faces converge, at one edge of the aperture.
+        z_centre = z_centre + thick + half * abs(np.tan(alpha) - previous_tan)
+        previous_tan = np.tan(alpha)
+        last = i == count - 1
+        boundaries.append(Boundary((0.0, 0.0, z_centre), (np.sin(alpha), 0.0, np.cos(alpha)),
+                                   layer=None if last else layers[i], coated=coated and last,
+                                   label="exit face" if last else f"interface {i + 1}"))
+    return Prism(kind=kind, pieces=pieces, boundaries=boundaries, width_mm=width,
+                 height_mm=height, design_wavelength_um=design, surround=surround,
+                 parameters=dict(parameters or {}))
