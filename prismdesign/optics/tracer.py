@@ -30,6 +30,9 @@ class TraceFlag:
     MISSED_SURFACE = 4
     #: The boundary equations were singular (grazing incidence); power set to 0.
     SINGULAR = 8
+    #: The beam crossed a thin layer in which its wave was evanescent: it tunnelled through
+    #: (frustrated total internal reflection); its power is the tunnelled fraction.
+    FRUSTRATED_TOTAL_REFLECTION = 16
 
 
 class Beam:
@@ -318,6 +321,10 @@ def trace(system, position_mm, direction, wavelength_um, polarisation=(1.0, 0.0)
             res = solve_interface(branch.k, branch.field, surface.normal, media_indices[i], axes[i],
                                   far_indices, far_axis, layer=layer)
             flags = flags | np.where(res.singular, TraceFlag.SINGULAR, 0)
+            if layer is not None:
+                k_n = dot(branch.k, surface.normal)
+                tunnelled = dot(branch.k, branch.k) - k_n * k_n > layer[0] ** 2
+                flags = flags | np.where(tunnelled, TraceFlag.FRUSTRATED_TOTAL_REFLECTION, 0)
             amplitude = (np.exp(1j * np.angle(res.coefficient))
                          * np.sqrt(res.power_fraction * branch.power[:, None]))
             amplitude = np.where(res.singular[:, None], 0.0, amplitude)
