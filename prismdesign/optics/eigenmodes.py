@@ -142,10 +142,22 @@ def mode_fields(wave_vector, n_o, n_e, optic_axis, normal, mode):
     """
     k = wave_vector
     c = optic_axis.astype(k.dtype)
-    d_o = cross(k, c)
+    if np.isrealobj(k):
+        # k × ĉ = |k| k̂ × ĝ with ĝ the part of ĉ across k̂: the cross product of two orthogonal
+        # unit vectors keeps full precision when k is close to the axis (k × ĉ directly loses
+        # ~1e-16/sinθ), so D_o stays ⟂ k and ⟂ ĉ to rounding.
+        k_hat = normalize(k)
+        g = c - dot(c, k_hat)[..., None] * k_hat
+        g = g - dot(g, k_hat)[..., None] * k_hat
+        d_o = cross(k_hat, normalize(g)) * (norm(k) * norm(g))[..., None]
+    else:
+        d_o = cross(k, c)
     degenerate = hermitian_norm(d_o) < DEGENERATE_AXIS_TOLERANCE * hermitian_norm(k)
     if np.any(degenerate):
         d_o = np.where(degenerate[..., None], _fallback_direction(k, normal), d_o)
+    # D ⟂ k holds analytically; rounding leaves a component along k of relative size
+    # ~1e-16/|k × ĉ| near the optic axis, removed here (bilinear product: k may be complex).
+    d_o = d_o - (dot(d_o, k) / dot(k, k))[..., None] * k
     d_o = hermitian_normalize(d_o)
     if mode == "o":
         e_field = d_o
@@ -212,7 +224,9 @@ def plane_wave_modes(wave_normal, n_o, n_e, optic_axis):
     results = {}
     for mode, index in (("o", n_o), ("e", index_e)):
         k = u * index[..., None]
-        e_field, _ = mode_fields(k, n_o, n_e, c, u, mode)
+        # Field directions do not depend on |k|: both modes are built from the same unit u, so
+        # they share one (near the axis, ill-conditioned) o-direction and stay orthogonal.
+        e_field, _ = mode_fields(u, n_o, n_e, c, u, mode)
         # Exact ray directions: S ∥ k for the o-wave and S ∥ εk for the e-wave (Born & Wolf
         # §15.2), rather than E × H* computed from fields that are imprecise near the axis.
         ray = u if mode == "o" else normalize(

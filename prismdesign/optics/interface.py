@@ -122,6 +122,10 @@ def _local_fields(q, kappa, n_o, n_e, cx, cy, cz, mode):
         dx = np.where(degenerate, 0.0, dx)
         dy = np.where(degenerate, 1.0, dy)
         dz = np.where(degenerate, 0.0, dz)
+    # D ⟂ k holds analytically; rounding leaves a component along k of relative size
+    # ~1e-16/|k × ĉ| near the optic axis, removed here (bilinear product: k may be complex).
+    along = (kappa * dx + q * dz) / (kappa * kappa + q * q)
+    dx, dz = dx - along * kappa, dz - along * q
     if mode == "o":
         return dx, dy, dz
     ex = -q * dy

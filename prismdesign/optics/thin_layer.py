@@ -63,7 +63,10 @@ def layer_transfer_matrix(n_layer, kappa, wavelength_um, thickness_mm):
     kappa2 = np.asarray(kappa, dtype=float) ** 2
     q2 = (n2 - kappa2).astype(complex)
     q = np.sqrt(q2)
-    phase_per_q = 2.0 * np.pi * np.asarray(thickness_mm) * 1e3 / np.asarray(wavelength_um)
+    # Sub-atomic thicknesses (< 1e-30 mm) count as zero; np.sinc overflows on subnormal input.
+    thickness = np.asarray(thickness_mm, dtype=float)
+    thickness = np.where(thickness < 1e-30, 0.0, thickness)
+    phase_per_q = 2.0 * np.pi * thickness * 1e3 / np.asarray(wavelength_um)
     # An evanescent layer with |Im φ| > 20 passes less than e^-40 (4e-18) of the power. Beyond
     # that the growing exponential swamps double precision in the boundary equations, so such a
     # layer is replaced by one just thick enough for |Im φ| = 20: transmitted power stays below
