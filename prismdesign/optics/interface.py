@@ -14,8 +14,8 @@ optional coherent thin layer at the interface enters through its transfer matrix
 
 Speed: the solve works in the local frame (û₁ along the tangential wave vector, û₂ = N̂ × û₁, N̂)
 where k = (κ, 0, q) and every cross product collapses to a few products; arrays are
-component-wise and contiguous, processed in cache-sized blocks, and real-valued unless a wave is
-evanescent or a layer is present. Global-frame vectors are formed only when asked for.
+component-wise and contiguous, processed in cache-sized blocks (on all cores), and real-valued
+unless a wave is evanescent or a layer is present.
 """
 import os
 from concurrent.futures import ThreadPoolExecutor
@@ -56,49 +56,24 @@ class InterfaceResult:
         The surface normal actually used, oriented along the incident energy flow.
     normal_component : complex ndarray, shape (..., 4)
         q = k·N̂ of each wave.
-    wave_vector, ray_direction, e_field, h_field : properties, shape (..., 4, 3)
+    wave_vector, ray_direction, e_field, h_field : ndarray, shape (..., 4, 3)
         Global-frame wave vectors (units of k0; complex where evanescent), unit Poynting
         directions (tangential for evanescent waves), unit electric fields (hermitian norm 1)
         and H = k × E.
     """
     __slots__ = ("coefficient", "power_fraction", "evanescent", "singular", "normal",
-                 "normal_component", "_u1", "_u2", "_kappa", "_local_e", "_local_ray", "_cache")
+                 "normal_component", "wave_vector", "e_field", "ray_direction", "_h_field")
 
     def __init__(self, **values):
         for key, value in values.items():
             setattr(self, key, value)
-        self._cache = {}
-
-    def _to_global(self, local):
-        return (local[..., 0:1] * self._u1[..., None, :] + local[..., 1:2] * self._u2[..., None, :]
-                + local[..., 2:3] * self.normal[..., None, :])
-
-    @property
-    def wave_vector(self):
-        if "k" not in self._cache:
-            kappa = np.broadcast_to(self._kappa[..., None], self.normal_component.shape)
-            local = np.stack([kappa.astype(complex), np.zeros_like(self.normal_component),
-                              self.normal_component], axis=-1)
-            self._cache["k"] = self._to_global(local)
-        return self._cache["k"]
-
-    @property
-    def e_field(self):
-        if "e" not in self._cache:
-            self._cache["e"] = self._to_global(self._local_e)
-        return self._cache["e"]
+        self._h_field = None
 
     @property
     def h_field(self):
-        if "h" not in self._cache:
-            self._cache["h"] = cross(self.wave_vector, self.e_field)
-        return self._cache["h"]
-
-    @property
-    def ray_direction(self):
-        if "s" not in self._cache:
-            self._cache["s"] = self._to_global(self._local_ray)
-        return self._cache["s"]
+        if self._h_field is None:
+            self._h_field = cross(self.wave_vector, self.e_field)
+        return self._h_field
 
     @property
     def total_internal_reflection(self):
@@ -225,7 +200,6 @@ def _solve_block(k_in, e_in, normal, n_o1, n_e1, c1, n_o2, n_e2, c2, layer):
     flux = (fx * hy.conjugate() - fy * hx.conjugate()).real
     power = (coefficient * coefficient.conjugate()).real * np.abs(flux)
     power_fraction = np.where(evanescent, 0.0, power / np.where(flux_in > 0, flux_in, 1.0))
-    local_e = np.stack([fx, fy, fz], axis=-1)   # (wave, m, 3)
     # Ray directions from the closed forms S ∥ k (o) and S ∥ εk (e), exact even where the
     # fields lose digits near the optic axis; εk = n_o² k + (n_e² − n_o²)(ĉ·k) ĉ.
     qr = q.real
@@ -243,11 +217,18 @@ def _solve_block(k_in, e_in, normal, n_o1, n_e1, c1, n_o2, n_e2, c2, layer):
         ez_ = (fx * hy.conjugate() - fy * hx.conjugate()).real
         sx, sy, sz = (np.where(evanescent, a, b) for a, b in ((ex_, sx), (ey_, sy), (ez_, sz)))
     s_len = np.sqrt(sx * sx + sy * sy + sz * sz)
-    local_ray = np.stack([sx / s_len, sy / s_len, sz / s_len], axis=-1)
+
+    def to_global(lx, ly, lz):
+        """Local (û₁, û₂, N̂) components of the four waves -> array (m, 4, 3)."""
+        return np.stack([lx * u1[i] + ly * u2[i] + lz * n_vec[i] for i in range(3)], axis=-1)
+
+    zero = np.zeros_like(q)
     return dict(coefficient=coefficient.T, power_fraction=power_fraction.T,
                 evanescent=evanescent.T, singular=singular, normal=n_vec.T,
-                normal_component=q.T, _u1=u1.T, _u2=u2.T, _kappa=kappa,
-                _local_e=np.moveaxis(local_e, 0, 1), _local_ray=np.moveaxis(local_ray, 0, 1))
+                normal_component=q.T,
+                wave_vector=to_global(kappa + zero, zero, q).transpose(1, 0, 2),
+                e_field=to_global(fx, fy, fz).transpose(1, 0, 2),
+                ray_direction=to_global(sx / s_len, sy / s_len, sz / s_len).transpose(1, 0, 2))
 
 
 def solve_interface(wave_vector_in, field_in, normal, indices_1, axis_1, indices_2, axis_2,
@@ -300,8 +281,8 @@ def solve_interface(wave_vector_in, field_in, normal, indices_1, axis_1, indices
     out = {"coefficient": np.empty((size, 4), complex), "power_fraction": np.empty((size, 4)),
            "evanescent": np.empty((size, 4), bool), "singular": np.empty(size, bool),
            "normal": np.empty((size, 3)), "normal_component": np.empty((size, 4), complex),
-           "_u1": np.empty((size, 3)), "_u2": np.empty((size, 3)), "_kappa": np.empty(size),
-           "_local_e": np.empty((size, 4, 3), complex), "_local_ray": np.empty((size, 4, 3))}
+           "wave_vector": np.empty((size, 4, 3), complex), "e_field": np.empty((size, 4, 3), complex),
+           "ray_direction": np.empty((size, 4, 3))}
 
     def run(start):
         block = slice(start, min(start + BLOCK_SIZE, size))
