@@ -8,4 +8,4 @@ from .optics import (Beam, CircularAperture, FixedIndices, Medium, RectangularAp
                      SequentialSystem, Surface, ThinLayer, TraceFlag, TraceResult,
                      extraordinary_index, optic_axis_from_angles, plane_wave_modes,
                      solve_interface, trace)
-from . import prisms
+from . import analysis, prisms

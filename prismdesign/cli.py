@@ -67,7 +67,7 @@ def _index_command(args) -> str:
 
 
 def _demo_command(args) -> str:
-    from .output.demo_materials import run_demo
+    from .output.demo import run_demo
     return run_demo(args.out)
 
 

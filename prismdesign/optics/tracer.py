@@ -321,10 +321,11 @@ def trace(system, position_mm, direction, wavelength_um, polarisation=(1.0, 0.0)
             res = solve_interface(branch.k, branch.field, surface.normal, media_indices[i], axes[i],
                                   far_indices, far_axis, layer=layer)
             flags = flags | np.where(res.singular, TraceFlag.SINGULAR, 0)
-            if layer is not None:
+            tunnelled = 0
+            if layer is not None and not mirror:
                 k_n = dot(branch.k, surface.normal)
-                tunnelled = dot(branch.k, branch.k) - k_n * k_n > layer[0] ** 2
-                flags = flags | np.where(tunnelled, TraceFlag.FRUSTRATED_TOTAL_REFLECTION, 0)
+                tunnelled = np.where(dot(branch.k, branch.k) - k_n * k_n > layer[0] ** 2,
+                                     TraceFlag.FRUSTRATED_TOTAL_REFLECTION, 0)
             amplitude = (np.exp(1j * np.angle(res.coefficient))
                          * np.sqrt(res.power_fraction * branch.power[:, None]))
             amplitude = np.where(res.singular[:, None], 0.0, amplitude)
@@ -353,6 +354,7 @@ def trace(system, position_mm, direction, wavelength_um, polarisation=(1.0, 0.0)
                         field=field_out, power=power, path=path,
                         flags=flags | np.where(dead & ~res.singular, TraceFlag.TOTAL_INTERNAL_REFLECTION, 0))
                     if side == "t":
+                        child.flags = child.flags | tunnelled
                         child.label = branch.label + mode_label
                         new_branches.append(child)
                     else:

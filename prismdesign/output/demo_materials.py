@@ -27,7 +27,7 @@ CANDIDATES = ("calcite", "quartz", "alpha-BBO", "YVO4")
 BAND_UM = (0.8, 1.0)
 
 
-def run_demo(out_dir) -> str:
+def run_demo(out_dir, caution=True) -> str:
     """Run the material part of the demo and write its figure and table into ``out_dir``.
 
     Parameters
@@ -35,6 +35,8 @@ def run_demo(out_dir) -> str:
     out_dir : str or os.PathLike
         Folder for ``birefringence_0.8-1.0um.png`` and ``birefringence_0.8-1.0um.csv``
         (created if missing).
+    caution : bool
+        End with the laser-safety caution (off when the caller prints it itself).
 
     Returns
     -------
@@ -95,5 +97,7 @@ def run_demo(out_dir) -> str:
     if missing:
         lines.append(f"Not in the library (skipped): {', '.join(missing)}")
     lines += [f"warning: {w.message}" for w in caught]
-    lines += ["", f"wrote {figure}", f"wrote {table_file}", "", LASER_CAUTION]
+    lines += ["", f"wrote {figure}", f"wrote {table_file}"]
+    if caution:
+        lines += ["", LASER_CAUTION]
     return "\n".join(lines)

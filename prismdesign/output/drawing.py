@@ -1,11 +1,18 @@
 """Side view of a prism (section y = 0) with optic-axis marks and traced beams."""
 import numpy as np
 
-__all__ = ["draw_side_view", "BEAM_COLOURS"]
+__all__ = ["draw_side_view", "BEAM_COLOURS", "beam_colour"]
 
 #: Colours for beams, in the order the beams are listed (our own plain palette).
 BEAM_COLOURS = ("#c0392b", "#1f6fb2", "#2e8b57", "#8e44ad", "#d35400", "#5d6d7e")
 _PIECE_FILL = ("#dfe9f3", "#f3eadf", "#e4f3df", "#f0dff3")
+
+
+def beam_colour(label):
+    """The same colour for a beam label in every figure (labels of o/e letters)."""
+    bits = "".join("1" if ch == "e" else "0" for ch in label if ch in "oe")
+    index = (int(bits or "0", 2) + 2 ** len(bits)) if bits else sum(map(ord, label))
+    return BEAM_COLOURS[index % len(BEAM_COLOURS)]
 
 
 def _axis_marks(ax, piece, polygon, colour="#333333"):
@@ -74,7 +81,8 @@ def draw_side_view(prism, wavelength_um, ax=None, *, offsets_x_mm=None, in_plane
     length = prism.length_mm if exit_length_mm is None else exit_length_mm
     z_end = prism.exit_z_mm + length
     labels = sorted(result.beams, key=lambda lab: -float(np.max(result.power(lab))))
-    for colour, label in zip(BEAM_COLOURS * 4, labels):
+    for label in labels:
+        colour = beam_colour(label)
         beam = result.beams[label]
         power = result.power(label)
         if np.max(power) < min_power:

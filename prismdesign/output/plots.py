@@ -3,7 +3,7 @@ maps over incidence angle. Each function takes analysis results and writes (or d
 none computes physics."""
 import numpy as np
 
-from .drawing import BEAM_COLOURS
+from .drawing import beam_colour
 
 __all__ = ["plot_split_versus_wavelength", "plot_footprints", "plot_angle_map"]
 
@@ -16,7 +16,8 @@ def _figure(path, fig):
 
 
 def plot_split_versus_wavelength(wavelength_um, split_result, band_um, path, *, title=""):
-    """Deviation of the main beams (top) and their exact split (bottom) versus wavelength.
+    """Deviation of the main beams, their exact split and the split's asymmetry (deviation of
+    the bisector from the input) versus wavelength.
 
     Parameters
     ----------
@@ -30,20 +31,21 @@ def plot_split_versus_wavelength(wavelength_um, split_result, band_um, path, *, 
     """
     import matplotlib.pyplot as plt
 
-    fig, (top, bottom) = plt.subplots(2, 1, sharex=True, figsize=(7.0, 6.0), layout="constrained")
-    for colour, label in zip(BEAM_COLOURS, split_result.main_labels):
-        top.plot(wavelength_um, split_result.in_plane_deg[label], color=colour,
+    fig, (top, middle, bottom) = plt.subplots(3, 1, sharex=True, figsize=(7.0, 7.0),
+                                              layout="constrained",
+                                              gridspec_kw={"height_ratios": [2, 2, 1.3]})
+    for label in split_result.main_labels:
+        top.plot(wavelength_um, split_result.in_plane_deg[label], color=beam_colour(label),
                  label=f"beam {label}")
     top.axhline(0.0, color="#777777", lw=0.8)
     top.set_ylabel("in-plane deviation (deg)")
     top.legend(fontsize=8)
-    bottom.plot(wavelength_um, split_result.split_deg, color="#222222", label="split (exact)")
-    bottom.plot(wavelength_um, split_result.asymmetry_deg, color="#888888", ls="--",
-                label="asymmetry (bisector deviation)")
-    bottom.set_ylabel("angle (deg)")
+    middle.plot(wavelength_um, split_result.split_deg, color="#222222")
+    middle.set_ylabel("split, exact (deg)")
+    bottom.plot(wavelength_um, 3600.0 * np.asarray(split_result.asymmetry_deg), color="#555555")
+    bottom.set_ylabel("asymmetry (arcsec)")
     bottom.set_xlabel("vacuum wavelength (µm)")
-    bottom.legend(fontsize=8)
-    for ax in (top, bottom):
+    for ax in (top, middle, bottom):
         ax.axvspan(*band_um, color="#f3d9a4", alpha=0.5, lw=0)
         ax.grid(True, alpha=0.3)
     top.set_title(title or "Deviation and split versus wavelength (working band shaded)",
@@ -71,7 +73,8 @@ def plot_footprints(positions_mm, radii_mm, wavelength_um, path, *, detectors=()
 
     fig, ax = plt.subplots(figsize=(7.0, 4.5), layout="constrained")
     shades = np.linspace(0.35, 1.0, len(wavelength_um))
-    for colour, label in zip(BEAM_COLOURS, positions_mm):
+    for label in positions_mm:
+        colour = beam_colour(label)
         pos = np.asarray(positions_mm[label])
         for i, lam in enumerate(wavelength_um):
             ax.add_patch(Circle((pos[i, 0], pos[i, 1]), radii_mm[label][i], fill=False,

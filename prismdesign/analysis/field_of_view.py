@@ -1,0 +1,411 @@
+"""Field of view: the incidence angles over which every beam of a prism stays within a spec.
+
+A spec is a list of :class:`Requirement` objects (wanted beam not totally reflected, rejected
+beam totally reflected, transmitted power above a floor, leakage below a ceiling, extinction
+ratio above a floor). Each requirement has a continuous *margin*, positive where it holds, so
+that the edges of the field can be found by bisection to any precision.
+
+Angles follow :func:`~prismdesign.optics.direction_from_angles`: the input direction is
+(cos β sin α, sin β, cos β cos α) with α the in-plane angle (tilt toward +x, the principal
+section) and β the out-of-plane angle (toward +y). Maps are computed with one trace over the
+whole grid (and all wavelengths); the edge search is a batched bisection with one trace per
+step for all wavelengths, directions and requirements at once.
+
+Total-reflection margins use the exact conditions: with κ the tangential wave vector (units of
+the vacuum wavenumber) of the beam arriving at a surface, an isotropic medium or thin layer of
+index n passes the wave when n² − κ² > 0; a uniaxial medium passes the beam's mode when the
+discriminant of its normal-component equation is positive (ordinary: n_o² − κ²; extraordinary:
+(b² − a c₀)/a, see :func:`prismdesign.optics.eigenmodes.normal_components`), which reduces to
+n² − κ² in the isotropic limit. A thin coherent gap (Glan air space) keeps κ, so its margin
+n_gap² − κ² is the geometric total-reflection condition even though a thin gap lets some power
+tunnel through; use :func:`power_at_most` to bound that leak.
+"""
+from dataclasses import dataclass
+
+import numpy as np
+
+from .total_reflection import total_reflection_margin
+
+__all__ = ["Requirement", "beam_passes", "beam_blocked", "power_at_least", "power_at_most",
+           "extinction_at_least", "default_requirements", "requirement_margins",
+           "FieldOfView", "field_of_view", "find_edges", "DIRECTIONS"]
+
+#: Order of the four half-angle directions in :attr:`FieldOfView.half_angles_deg`, with the
+#: azimuth of each in the (in-plane, out-of-plane) angle plane.
+DIRECTIONS = (("+in-plane", 0.0), ("-in-plane", 180.0), ("+out-of-plane", 90.0),
+              ("-out-of-plane", 270.0))
+
+_TINY = 1e-300
+
+
+@dataclass(frozen=True)
+class Requirement:
+    """One condition on the beams leaving a prism, with a continuous margin.
+
+    Build with :func:`beam_passes`, :func:`beam_blocked`, :func:`power_at_least`,
+    :func:`power_at_most` or :func:`extinction_at_least`.
+
+    Attributes
+    ----------
+    kind : {"passes", "blocked", "power_at_least", "power_at_most", "extinction_at_least"}
+    beam : str
+        Beam label (e.g. ``"ee"``).
+    limit : float
+        Power fraction of the input, or extinction ratio (linear).
+    leak : str or None
+        Label of the unwanted beam for an extinction requirement.
+    """
+
+    kind: str
+    beam: str
+    limit: float = 0.0
+    leak: str | None = None
+
+    @property
+    def name(self):
+        """Short readable name, used as the key of maps and half-angles."""
+        return {"passes": f"{self.beam} not totally reflected",
+                "blocked": f"{self.beam} totally reflected",
+                "power_at_least": f"{self.beam} power >= {self.limit:g}",
+                "power_at_most": f"{self.beam} power <= {self.limit:g}",
+                "extinction_at_least": f"{self.beam}/{self.leak} >= {self.limit:g}"}[self.kind]
+
+    def margin(self, result, system):
+        """Margin of this requirement for a trace; positive where it holds.
+
+        Units: index² for "passes"/"blocked", power fraction for power limits, decades
+        (log10 of the ratio over the limit) for extinction.
+        """
+        if self.kind in ("passes", "blocked"):
+            m = total_reflection_margin(result, system, self.beam)
+            return m if self.kind == "passes" else -m
+        power = _power(result, self.beam)
+        if self.kind == "power_at_least":
+            return power - self.limit
+        if self.kind == "power_at_most":
+            return self.limit - power
+        leak = _power(result, self.leak)
+        return (np.log10(np.maximum(power, _TINY)) - np.log10(np.maximum(leak, _TINY))
+                - np.log10(self.limit))
+
+
+def _power(result, label):
+    if label not in result.beams:
+        raise ValueError(f"beam {label!r} is not among the traced beams {sorted(result.beams)}")
+    return result.power(label)
+
+
+def _check_label(label):
+    if not isinstance(label, str) or not label:
+        raise ValueError(f"beam label must be a non-empty string such as 'eo', got {label!r}")
+    return label
+
+
+def _check_fraction(name, value):
+    v = float(value)
+    if not (np.isfinite(v) and 0.0 <= v <= 1.0):
+        raise ValueError(f"{name} must be a power fraction between 0 and 1, got {value!r}")
+    return v
+
+
+def beam_passes(beam):
+    """The beam is not totally reflected at any surface or thin layer it crosses."""
+    return Requirement("passes", _check_label(beam))
+
+
+def beam_blocked(beam):
+    """The beam is totally reflected at some surface or thin layer (a rejected Glan beam)."""
+    return Requirement("blocked", _check_label(beam))
+
+
+def power_at_least(beam, fraction):
+    """Transmitted power of the beam (fraction of the input) is at least `fraction`."""
+    return Requirement("power_at_least", _check_label(beam), _check_fraction("fraction", fraction))
+
+
+def power_at_most(beam, fraction):
+    """Transmitted power of the beam (e.g. the tunnelling leak of a rejected beam) is at most
+    `fraction` of the input."""
+    return Requirement("power_at_most", _check_label(beam), _check_fraction("fraction", fraction))
+
+
+def extinction_at_least(beam, leak, ratio):
+    """Power of `beam` over the power of the unwanted `leak` beam is at least `ratio` (linear)."""
+    r = float(ratio)
+    if not (np.isfinite(r) and r > 0):
+        raise ValueError(f"extinction ratio must be a positive number, got {ratio!r}")
+    return Requirement("extinction_at_least", _check_label(beam), r, _check_label(leak))
+
+
+def default_requirements(prism, wavelength_um=None):
+    """A sensible spec for a prism.
+
+    Glan-type prisms (``prism.parameters["transmitted_mode"]`` is "o" or "e"): the transmitted
+    beam (e.g. ``"ee"``) must pass and the rejected one (``"oo"``) must be totally reflected at
+    the gap. Otherwise every beam carrying at least 1 % of unpolarised input at normal incidence
+    (at `wavelength_um`, default the design wavelength) must pass.
+
+    Returns
+    -------
+    tuple of Requirement
+    """
+    params = getattr(prism, "parameters", {}) or {}
+    mode = params.get("transmitted_mode")
+    if mode in ("o", "e"):
+        crystals = sum(1 for piece in prism.pieces if piece.is_crystal)
+        other = "e" if mode == "o" else "o"
+        return (beam_passes(mode * crystals), beam_blocked(other * crystals))
+    lam = prism.design_wavelength_um if wavelength_um is None else float(np.ravel(wavelength_um)[0])
+    result = prism.trace(lam, 0.0, 0.0)
+    main = [label for label in sorted(result.beams) if float(result.power(label)) >= 0.01]
+    return tuple(beam_passes(b) for b in main)
+
+
+def _trace(prism, wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm, polarisation):
+    # power_threshold=0 keeps branches that are dead on every ray (a fully reflected rejected
+    # beam), so their geometry is available for the margins.
+    return prism.trace(wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm=offset_mm,
+                       polarisation=polarisation, power_threshold=0.0)
+
+
+def requirement_margins(prism, wavelength_um, in_plane_deg, out_of_plane_deg, requirements, *,
+                        offset_mm=(0.0, 0.0), polarisation="unpolarised"):
+    """Margins of each requirement at given incidence angles, with one trace.
+
+    Parameters
+    ----------
+    prism : Prism
+    wavelength_um, in_plane_deg, out_of_plane_deg : array_like
+        Broadcast together (wavelength µm, angles degrees).
+    requirements : sequence of Requirement
+    offset_mm : array_like, shape (..., 2)
+        Entry points (x, y) on the entrance face; broadcast with the other inputs.
+    polarisation : array_like or "unpolarised"
+
+    Returns
+    -------
+    ndarray, shape (n_requirements, ...)
+        Margins (positive where the requirement holds), broadcast shape of the inputs.
+    """
+    requirements = tuple(requirements)
+    if not requirements:
+        raise ValueError("requirements must name at least one Requirement")
+    if all(r.kind in ("passes", "blocked") for r in requirements):
+        # Geometry does not depend on the input polarisation: one diagonal input instead of
+        # the incoherent pair halves the work.
+        polarisation = (np.sqrt(0.5), np.sqrt(0.5))
+    result = _trace(prism, wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm, polarisation)
+    system = prism.system()
+    shape = np.broadcast_shapes(np.shape(wavelength_um), np.shape(in_plane_deg),
+                                np.shape(out_of_plane_deg), np.shape(offset_mm)[:-1])
+    return np.stack([np.broadcast_to(r.margin(result, system), shape) for r in requirements])
+
+
+@dataclass(frozen=True)
+class FieldOfView:
+    """Field-of-view maps and half-angles of a prism against a spec.
+
+    Attributes
+    ----------
+    wavelength_um : ndarray, shape W
+    in_plane_deg, out_of_plane_deg : ndarray, shape (steps,)
+        Grid axes; maps are indexed [..., out_of_plane, in_plane].
+    requirements : tuple of Requirement
+    margins : dict[str, ndarray of shape W + (steps, steps)]
+        Margin of each requirement (keyed by :attr:`Requirement.name`).
+    maps : dict[str, bool ndarray of shape W + (steps, steps)]
+        Where each requirement holds; key "combined" for all of them.
+    half_angles_deg : dict[str, ndarray of shape W + (4,)]
+        Largest contiguous range from normal incidence along each of :data:`DIRECTIONS`
+        (+in-plane, −in-plane, +out-of-plane, −out-of-plane), as positive angles; per
+        requirement name and "combined". Refined by bisection when asked, else grid values.
+    open_ended : dict[str, bool ndarray of shape W + (4,)]
+        True where the requirement still held at the grid edge: the half-angle is then only a
+        lower bound equal to the half range.
+    refined : bool
+        Whether half-angles were refined by bisection.
+    """
+
+    wavelength_um: np.ndarray
+    in_plane_deg: np.ndarray
+    out_of_plane_deg: np.ndarray
+    requirements: tuple
+    margins: dict
+    maps: dict
+    half_angles_deg: dict
+    open_ended: dict
+    refined: bool
+
+    @property
+    def combined(self):
+        """Where every requirement holds, shape W + (steps, steps)."""
+        return self.maps["combined"]
+
+    @property
+    def total_in_plane_deg(self):
+        """Full in-plane field: sum of the + and − in-plane half-angles (combined), shape W."""
+        h = self.half_angles_deg["combined"]
+        return h[..., 0] + h[..., 1]
+
+    @property
+    def total_out_of_plane_deg(self):
+        """Full out-of-plane field (combined), shape W."""
+        h = self.half_angles_deg["combined"]
+        return h[..., 2] + h[..., 3]
+
+    @property
+    def ok_at_normal_incidence(self):
+        """Whether the spec holds at normal incidence, shape W."""
+        c = self.in_plane_deg.size // 2
+        return self.maps["combined"][..., c, c][()]
+
+
+def _grid_runs(ok, angles):
+    """Contiguous run from the centre along the four directions of a square map.
+
+    Returns the last good grid angle (magnitude), the index of the first bad point (or −1 when
+    the run reaches the edge) and whether the centre holds; shapes W + (4,).
+    """
+    c = angles.size // 2
+    rays = [ok[..., c, c:], ok[..., c, c::-1], ok[..., c:, c], ok[..., c::-1, c]]
+    rays = np.stack(rays, axis=-2)                            # W + (4, c + 1)
+    broken = ~rays
+    first_bad = np.where(broken.any(axis=-1), broken.argmax(axis=-1), -1)
+    steps = angles[c:] - angles[c]
+    last_good = np.where(first_bad == -1, c, first_bad - 1)
+    good_angle = np.where(last_good >= 0, steps[np.maximum(last_good, 0)], 0.0)
+    return good_angle, first_bad, rays[..., 0]
+
+
+def find_edges(prism, wavelength_um, requirements, inside_deg, outside_deg, azimuth_deg=0.0, *,
+               which=None, offset_mm=(0.0, 0.0), polarisation="unpolarised",
+               tolerance_deg=1e-9):
+    """Edge of the field along a direction in the angle plane, by batched bisection.
+
+    Incidence at distance a from normal incidence along azimuth φ is in-plane a·cos φ,
+    out-of-plane a·sin φ (degrees). Between `inside_deg` (spec holds) and `outside_deg`
+    (spec fails) the bisection keeps a bracket with a sign change of the margin and stops when
+    it is narrower than `tolerance_deg`. One trace per step covers every element.
+
+    Parameters
+    ----------
+    prism : Prism
+    wavelength_um, inside_deg, outside_deg, azimuth_deg : array_like
+        Broadcast together; wavelengths in µm, angles in degrees.
+    requirements : sequence of Requirement
+    which : array_like of int, optional
+        Per element, the index of the requirement to bound; −1 (default) bounds all of them
+        together (the smallest margin).
+    offset_mm, polarisation
+        As for :func:`requirement_margins`.
+    tolerance_deg : float
+
+    Returns
+    -------
+    ndarray
+        Edge angle a (degrees) in the broadcast shape; the last angle at which the spec
+        holds within `tolerance_deg`.
+    """
+    requirements = tuple(requirements)
+    which = -1 if which is None else which
+    lam, lo, hi, az, sel = np.broadcast_arrays(*(np.asarray(v, dtype=float) for v in
+                                                 (wavelength_um, inside_deg, outside_deg,
+                                                  azimuth_deg, which)))
+    sel = sel.astype(int)
+    if np.any((sel < -1) | (sel >= len(requirements))):
+        raise ValueError(f"which must index the {len(requirements)} requirements or be -1")
+    lo, hi = lo.copy(), hi.copy()
+    cos_a, sin_a = np.cos(np.deg2rad(az)), np.sin(np.deg2rad(az))
+    width = np.max(np.abs(hi - lo), initial=0.0)
+    steps = int(np.ceil(np.log2(max(width, tolerance_deg) / tolerance_deg))) + 1
+    for _ in range(steps):
+        mid = 0.5 * (lo + hi)
+        m = requirement_margins(prism, lam, mid * cos_a, mid * sin_a, requirements,
+                                offset_mm=offset_mm, polarisation=polarisation)
+        chosen = np.where(sel == -1, m.min(axis=0),
+                          np.take_along_axis(m, np.maximum(sel, 0)[None], axis=0)[0])
+        good = chosen > 0
+        lo = np.where(good, mid, lo)
+        hi = np.where(good, hi, mid)
+    return lo[()] if lo.ndim == 0 else lo
+
+
+def field_of_view(prism, wavelength_um=None, *, requirements=None, half_range_deg=10.0,
+                  steps=81, offset_mm=(0.0, 0.0), polarisation="unpolarised", refine=True,
+                  tolerance_deg=1e-9):
+    """Map where a prism meets its spec over a square grid of incidence angles.
+
+    Parameters
+    ----------
+    prism : Prism
+    wavelength_um : array_like, shape W, optional
+        Vacuum wavelengths (µm); default the prism's design wavelength.
+    requirements : sequence of Requirement, optional
+        Default :func:`default_requirements`.
+    half_range_deg : float
+        The grid spans ±`half_range_deg` in both tilt directions.
+    steps : int
+        Odd number of grid points per axis (normal incidence is the centre).
+    offset_mm : array_like, shape (2,)
+        One entry point (x, y) on the entrance face; rays leaving the clear aperture at large
+        angles are not part of the spec.
+    polarisation : array_like or "unpolarised"
+        Input polarisation; powers of an unpolarised input add over the incoherent pair.
+    refine : bool
+        Refine the half-angles by bisection (:func:`find_edges`) to `tolerance_deg`.
+
+    Returns
+    -------
+    FieldOfView
+    """
+    lam = np.asarray(prism.design_wavelength_um if wavelength_um is None else wavelength_um,
+                     dtype=float)
+    if not (isinstance(steps, (int, np.integer)) and steps >= 3 and steps % 2 == 1):
+        raise ValueError(f"steps must be an odd integer >= 3 (normal incidence at the centre), "
+                         f"got {steps!r}")
+    half = float(half_range_deg)
+    if not (np.isfinite(half) and 0.0 < half < 90.0):
+        raise ValueError(f"half_range_deg must lie between 0 and 90 degrees, got {half_range_deg!r}")
+    if np.shape(offset_mm) != (2,):
+        raise ValueError(f"offset_mm must be one entry point (x, y), got shape {np.shape(offset_mm)}")
+    requirements = tuple(default_requirements(prism, lam) if requirements is None
+                         else requirements)
+    if not requirements or not all(isinstance(r, Requirement) for r in requirements):
+        raise ValueError(f"requirements must be a non-empty sequence of Requirement objects "
+                         f"(beam_passes, beam_blocked, ...), got {requirements!r}")
+    names = [r.name for r in requirements]
+    if len(set(names)) != len(names):
+        raise ValueError(f"requirements must be distinct, got {names}")
+    angles = np.linspace(-half, half, steps)
+    margins = requirement_margins(prism, lam[..., None, None], angles, angles[:, None],
+                                  requirements, offset_mm=offset_mm, polarisation=polarisation)
+    ok = margins > 0
+    maps = dict(zip(names, ok))
+    maps["combined"] = ok.all(axis=0)
+    keys = names + ["combined"]
+    runs = [_grid_runs(maps[k], angles) for k in keys]
+    half_angles = {k: r[0] for k, r in zip(keys, runs)}
+    open_ended = {k: (r[1] == -1) & r[2] for k, r in zip(keys, runs)}
+    if refine:
+        step = angles[1] - angles[0]
+        first_bad = np.stack([r[1] for r in runs])             # (K,) + W + (4,)
+        inside = np.stack([half_angles[k] for k in keys])
+        needs = first_bad > 0                                   # centre holds, edge inside grid
+        if needs.any():
+            which = np.arange(len(keys)).reshape((-1,) + (1,) * (first_bad.ndim - 1))
+            which = np.where(which == len(requirements), -1, which)
+            azimuth = np.array([a for _, a in DIRECTIONS])
+            lam_full = np.broadcast_to(lam[..., None], first_bad.shape)
+            idx = np.nonzero(needs)
+            edges = find_edges(prism, lam_full[idx], requirements, inside[idx],
+                               inside[idx] + step,
+                               np.broadcast_to(azimuth, first_bad.shape)[idx],
+                               which=np.broadcast_to(which, first_bad.shape)[idx],
+                               offset_mm=offset_mm, polarisation=polarisation,
+                               tolerance_deg=tolerance_deg)
+            inside[idx] = edges
+        half_angles = {k: inside[i] for i, k in enumerate(keys)}
+    return FieldOfView(wavelength_um=lam, in_plane_deg=angles, out_of_plane_deg=angles.copy(),
+                       requirements=requirements,
+                       margins=dict(zip(names, margins)), maps=maps,
+                       half_angles_deg=half_angles, open_ended=open_ended, refined=bool(refine))

@@ -1,0 +1,356 @@
+"""Interference quantities of two-beam devices: optical path difference, shear and the
+fringe-localisation plane (Wollaston, Nomarski, Savart and any other two-beam prism).
+
+Input is a collimated plane wave. Every ray of a beam leaving a prism with plane faces belongs
+to one exit plane wave, so the phase of beam a at any point r outside the prism (or on the
+straight continuation of its exit rays back into it) is
+
+    L_a(r) = L_a(exit) + k_a · (r − r_exit),
+
+with k_a the exit wave vector in units of the vacuum wavenumber and L_a(exit) the optical path
+(mm) accumulated along the ray from the input wavefront through the origin. The optical path
+difference of beams a and b at r is L_a(r) − L_b(r) (mm); divide by the wavelength (in mm) for
+fringe orders.
+
+Fringe-localisation plane (definition used throughout). For an entry point on the entrance
+face, the two exit rays born from it are continued as straight lines in the exit medium (also
+backward, into the prism); their point of closest approach is where the two waves from that
+input ray meet, so fringes of an extended source are sharpest there (Françon & Mallick,
+*Polarization Interferometers*, 1971, ch. 2 — attribution from memory). The locus of these
+points for entry points across the aperture along x (y = 0) is a straight line in the x–z plane
+(all the geometry is affine in the entry point); we report its z at x = 0 and its tilt angle
+from the x axis (positive when z increases toward +x). When the two exit rays are parallel (a
+Savart plate) the rays never meet: the plane is at infinity and is reported as such.
+"""
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from ..optics.vectors import cross, dot
+
+__all__ = ["main_beams", "exit_wave_paths", "optical_path_difference", "shear_mm",
+           "Localisation", "fringe_localisation", "small_angle_estimates", "PARALLEL_LIMIT"]
+
+#: Below this sine of the angle between the two exit rays they are taken as parallel (the
+#: localisation plane is at infinity).
+PARALLEL_LIMIT = 1e-12
+
+#: Polarisation used for geometric traces: diagonal, so both eigen-polarisations of common
+#: two-beam devices are excited.
+_DIAGONAL = (np.sqrt(0.5), np.sqrt(0.5))
+
+
+def main_beams(prism, wavelength_um=None):
+    """The two beams carrying the most power for unpolarised input at normal incidence.
+
+    Returns
+    -------
+    tuple of str
+        Two labels in alphabetical order (e.g. ``("eo", "oe")``).
+    """
+    lam = prism.design_wavelength_um if wavelength_um is None else float(np.ravel(wavelength_um)[0])
+    result = prism.trace(lam, 0.0, 0.0)
+    ranked = sorted(result.beams, key=lambda label: -float(result.power(label)))
+    if len(ranked) < 2:
+        raise ValueError(f"{prism.kind} prism gives fewer than two beams ({ranked}); "
+                         f"interference needs two")
+    return tuple(sorted(ranked[:2]))
+
+
+def _pair(prism, beams, wavelength_um):
+    beams = main_beams(prism, wavelength_um) if beams is None else tuple(beams)
+    if len(beams) != 2 or beams[0] == beams[1]:
+        raise ValueError(f"beams must name two different beam labels, got {beams!r}")
+    return beams
+
+
+def _trace_pair(prism, beams, wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm):
+    result = prism.trace(wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm=offset_mm,
+                         polarisation=_DIAGONAL, power_threshold=0.0)
+    for label in beams:
+        if label not in result.beams:
+            raise ValueError(f"beam {label!r} is not among the traced beams {sorted(result.beams)}")
+    return result.beams[beams[0]], result.beams[beams[1]]
+
+
+def exit_wave_paths(beam):
+    """Exit point, exit wave vector and optical path from the input wavefront, of each ray.
+
+    The input rays start on a plane that is not a wavefront when the input is tilted; adding
+    k_in · r_start refers every path to the wavefront through the origin.
+
+    Returns
+    -------
+    exit_mm : ndarray, shape (..., 3)
+    wave_vector : ndarray, shape (..., 3)
+        Exit wave vector in units of the vacuum wavenumber.
+    path_mm : ndarray, shape (...)
+    """
+    k_in = beam.wave_normals[0] * beam.indices[0][..., None]
+    k_out = beam.exit_wave_normal * beam.indices[-1][..., None]
+    return beam.exit_position_mm, k_out, beam.optical_path_mm + dot(k_in, beam.positions_mm[0])
+
+
+def _phase_at(beam, points_mm):
+    exit_mm, k, path = exit_wave_paths(beam)
+    return path + dot(k, points_mm - exit_mm)
+
+
+def _on_plane(beam, plane_z_mm):
+    """Where the exit rays cross the plane z = plane_z_mm (shape (..., 3))."""
+    d = beam.exit_direction
+    r = beam.exit_position_mm
+    t = (plane_z_mm - r[..., 2]) / d[..., 2]
+    return r + t[..., None] * d
+
+
+def _offsets(offset_mm):
+    offset = np.asarray(offset_mm, dtype=float)
+    if offset.ndim == 0 or offset.shape[-1] != 2:
+        raise ValueError(f"offset_mm must be (x, y) pairs on the last axis, got shape {offset.shape}")
+    return offset
+
+
+def optical_path_difference(prism, wavelength_um, offset_mm=(0.0, 0.0), *, beams=None,
+                            in_plane_deg=0.0, out_of_plane_deg=0.0, plane_z_mm=None):
+    """Optical path difference of two beams born from the same entry point, on a plane.
+
+    Each of the two rays from an entry point is continued to the plane z = `plane_z_mm` and the
+    optical paths (from the input wavefront) are subtracted: OPD = L_a − L_b, a and b being
+    `beams` in order. This is the path difference accumulated by the two polarisations along
+    their own rays, e.g. (n_e − n_o)(t₁ − t₂) for a Wollaston at normal incidence with wedge
+    thicknesses t₁, t₂; the two rays reach the plane at points separated by the shear
+    (:func:`shear_mm`). For the difference at the point where the rays meet, see
+    :func:`fringe_localisation` (``opd_mm``).
+
+    Parameters
+    ----------
+    prism : Prism
+    wavelength_um : array_like
+        Vacuum wavelengths (µm).
+    offset_mm : array_like, shape (..., 2)
+        Entry points (x, y) on the entrance face; broadcast against the wavelengths and angles.
+    beams : pair of str, optional
+        Beam labels; default :func:`main_beams`.
+    in_plane_deg, out_of_plane_deg : array_like
+        Incidence of the collimated input (degrees).
+    plane_z_mm : float, optional
+        Reference plane; default the largest z of the prism (just after the exit face).
+
+    Returns
+    -------
+    ndarray
+        OPD in mm, broadcast shape of the inputs.
+    """
+    beams = _pair(prism, beams, wavelength_um)
+    z = prism.exit_z_mm if plane_z_mm is None else float(plane_z_mm)
+    a, b = _trace_pair(prism, beams, wavelength_um, in_plane_deg, out_of_plane_deg,
+                       _offsets(offset_mm))
+    return _phase_at(a, _on_plane(a, z)) - _phase_at(b, _on_plane(b, z))
+
+
+def shear_mm(prism, wavelength_um, offset_mm=(0.0, 0.0), *, beams=None, in_plane_deg=0.0,
+             out_of_plane_deg=0.0, plane_z_mm=None):
+    """Lateral shear between two beams born from the same entry point, on the plane z = const.
+
+    Parameters
+    ----------
+    prism, wavelength_um, offset_mm, beams, in_plane_deg, out_of_plane_deg
+        As for :func:`optical_path_difference`.
+    plane_z_mm : float, optional
+        Observation plane; default the largest z of the prism.
+
+    Returns
+    -------
+    ndarray, shape (..., 2)
+        (x, y) position of beam a minus that of beam b on the plane (mm); the shear length is
+        ``np.hypot(*s.T)``.
+    """
+    beams = _pair(prism, beams, wavelength_um)
+    z = prism.exit_z_mm if plane_z_mm is None else float(plane_z_mm)
+    a, b = _trace_pair(prism, beams, wavelength_um, in_plane_deg, out_of_plane_deg,
+                       _offsets(offset_mm))
+    return (_on_plane(a, z) - _on_plane(b, z))[..., :2]
+
+
+@dataclass(frozen=True)
+class Localisation:
+    """Fringe-localisation plane of a two-beam prism (see the module docstring).
+
+    Attributes
+    ----------
+    wavelength_um : ndarray, shape W
+    beams : tuple of str
+    entry_x_mm : ndarray, shape (samples,)
+        Entry points across the aperture (y = 0).
+    points_mm : ndarray, shape W + (samples, 3)
+        Midpoints of closest approach of the two rays from each entry point (global frame, mm);
+        inf where the rays are parallel.
+    gap_mm : ndarray, shape W + (samples,)
+        Closest distance between the two rays (0 when they cross).
+    opd_mm : ndarray, shape W + (samples,)
+        OPD (a − b, mm) at those points; for parallel exit rays the uniform OPD between the
+        two exit plane waves (fringes at infinity).
+    z_at_axis_mm : ndarray, shape W
+        z of the fitted locus line at x = 0 (the entrance face is z = 0); inf at infinity.
+    distance_from_exit_mm : ndarray, shape W
+        Distance of that point beyond the exit face along z at x = 0 (negative: inside or
+        before the exit face, i.e. a virtual plane for an observer behind the prism).
+    tilt_deg : ndarray, shape W
+        Tilt of the locus from the x axis, atan(dz/dx); nan at infinity.
+    split_deg : ndarray, shape W
+        Exact angle between the two exit rays.
+    at_infinity : bool ndarray, shape W
+    small_angle : dict[str, ndarray]
+        Common small-angle estimates for this prism kind (:func:`small_angle_estimates`).
+    """
+
+    wavelength_um: np.ndarray
+    beams: tuple
+    entry_x_mm: np.ndarray
+    points_mm: np.ndarray
+    gap_mm: np.ndarray
+    opd_mm: np.ndarray
+    z_at_axis_mm: np.ndarray
+    distance_from_exit_mm: np.ndarray
+    tilt_deg: np.ndarray
+    split_deg: np.ndarray
+    at_infinity: np.ndarray
+    small_angle: dict = field(default_factory=dict)
+
+
+def _closest_approach(ra, da, rb, db):
+    """Midpoint and distance of closest approach of the lines r + s d (unit d)."""
+    w = ra - rb
+    b = dot(da, db)
+    d = dot(da, w)
+    e = dot(db, w)
+    # |da × db|² rather than 1 − b², which cancels badly for nearly parallel rays.
+    denom = dot(cross(da, db), cross(da, db))
+    parallel = denom < PARALLEL_LIMIT ** 2
+    safe = np.where(parallel, 1.0, denom)
+    s = (b * e - d) / safe
+    t = (e - b * d) / safe
+    pa = ra + s[..., None] * da
+    pb = rb + t[..., None] * db
+    mid = np.where(parallel[..., None], np.inf, 0.5 * (pa + pb))
+    gap = np.where(parallel, np.sqrt(np.maximum(dot(w, w) - d * d, 0.0)),
+                   np.sqrt(dot(pa - pb, pa - pb)))
+    return mid, gap, parallel
+
+
+def _boundary_z(boundary, x_mm=0.0):
+    """z of a boundary plane at (x, 0)."""
+    p, n = boundary.point_mm, boundary.normal
+    return p[2] - (n[0] * (x_mm - p[0]) + n[1] * (0.0 - p[1])) / n[2]
+
+
+def fringe_localisation(prism, wavelength_um=None, *, beams=None, in_plane_deg=0.0,
+                        out_of_plane_deg=0.0, samples=5, aperture_fraction=0.8):
+    """Position and tilt of the fringe-localisation plane, versus wavelength.
+
+    Parameters
+    ----------
+    prism : Prism
+    wavelength_um : array_like, shape W, optional
+        Default: the design wavelength.
+    beams : pair of str, optional
+        Default :func:`main_beams`.
+    in_plane_deg, out_of_plane_deg : float
+        Incidence of the collimated input (degrees).
+    samples : int
+        Entry points across the aperture (≥ 2; the locus is exactly a line).
+    aperture_fraction : float
+        The entry points span this fraction of the width along x, centred.
+
+    Returns
+    -------
+    Localisation
+    """
+    lam = np.asarray(prism.design_wavelength_um if wavelength_um is None else wavelength_um,
+                     dtype=float)
+    if not (isinstance(samples, (int, np.integer)) and samples >= 2):
+        raise ValueError(f"samples must be an integer >= 2, got {samples!r}")
+    if not (0.0 < float(aperture_fraction) <= 1.0):
+        raise ValueError(f"aperture_fraction must lie in (0, 1], got {aperture_fraction!r}")
+    for name, value in (("in_plane_deg", in_plane_deg), ("out_of_plane_deg", out_of_plane_deg)):
+        if np.ndim(value) != 0:
+            raise ValueError(f"{name} must be a single angle in degrees, got shape {np.shape(value)}")
+    beams = _pair(prism, beams, lam)
+    half = 0.5 * float(aperture_fraction) * prism.width_mm
+    x = np.linspace(-half, half, samples)
+    offsets = np.stack([x, np.zeros_like(x)], axis=-1)
+    a, b = _trace_pair(prism, beams, lam[..., None], in_plane_deg, out_of_plane_deg, offsets)
+    mid, gap, parallel = _closest_approach(a.exit_position_mm, a.exit_direction,
+                                           b.exit_position_mm, b.exit_direction)
+    at_inf = parallel.any(axis=-1)
+    # Parallel exit waves differ in phase by the same amount everywhere (the OPD of fringes at
+    # infinity, e.g. in a lens's focal plane): evaluate it at beam a's exit point.
+    finite_mid = np.where(parallel[..., None], a.exit_position_mm, mid)
+    opd = _phase_at(a, finite_mid) - _phase_at(b, finite_mid)
+    # Least-squares line z = z0 + slope·x through the locus points, batched over wavelength.
+    px, pz = finite_mid[..., 0], finite_mid[..., 2]
+    mx, mz = px.mean(axis=-1), pz.mean(axis=-1)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        slope = (((px - mx[..., None]) * (pz - mz[..., None])).sum(axis=-1)
+                 / ((px - mx[..., None]) ** 2).sum(axis=-1))
+    # [()] turns 0-d results into scalars (scalar wavelength in, scalars out).
+    z0 = np.where(at_inf, np.inf, mz - slope * mx)[()]
+    tilt = np.where(at_inf, np.nan, np.rad2deg(np.arctan(slope)))[()]
+    cos_split = np.clip(dot(a.exit_direction, b.exit_direction), -1.0, 1.0)
+    split = np.rad2deg(np.arccos(cos_split)).mean(axis=-1)
+    return Localisation(wavelength_um=lam, beams=beams, entry_x_mm=x, points_mm=mid, gap_mm=gap,
+                        opd_mm=opd, z_at_axis_mm=z0,
+                        distance_from_exit_mm=z0 - _boundary_z(prism.boundaries[-1]),
+                        tilt_deg=tilt, split_deg=split, at_infinity=at_inf,
+                        small_angle=small_angle_estimates(prism, lam))
+
+
+def small_angle_estimates(prism, wavelength_um):
+    """The trade's small-angle formulas for this prism kind, to set beside the exact values.
+
+    Wollaston with parallel outer faces (wedge angle θ, second-wedge thickness t₂ on the axis;
+    derivation in ``tests/test_analysis_interference.py``):
+
+    * ``split_deg``: 2 |n_o − n_e| tan θ (common practice, no source);
+    * ``tilt_deg``: tan ε = tan θ (n_o + n_e)/(2 n_o n_e), signed like the interface (Françon &
+      Mallick, *Polarization Interferometers*, 1971 — from memory);
+    * ``z_at_axis_mm``: exit-face z − t₂ (n_o + n_e)/(2 n_o n_e).
+
+    Savart plate (two plates of thickness t, axes at θ from the normal, crossed):
+
+    * ``shear_mm``: √2 t |tan ρ| with the walk-off tan ρ = (n_o² − n_e²) tan θ/(n_e² + n_o² tan² θ)
+      (Born & Wolf, *Principles of Optics*, §15.3.3); at θ = 45° this is
+      √2 t |n_e² − n_o²|/(n_e² + n_o²) (Françon & Mallick, 1971 — from memory). Exact at
+      normal incidence; it ignores the change of shear with the incidence angle.
+
+    Indices are taken relative to the surrounding medium (the formulas assume vacuum around
+    the prism; air shifts them by about 3e-4). Other kinds return an empty dict.
+
+    Returns
+    -------
+    dict[str, ndarray]
+        Arrays of the wavelength shape.
+    """
+    lam = np.asarray(wavelength_um, dtype=float)
+    n_s = prism.surround.indices(lam)[0]
+    if prism.kind == "wollaston" and np.allclose(prism.boundaries[0].normal,
+                                                 prism.boundaries[-1].normal):
+        n_o, n_e = (n / n_s for n in prism.pieces[0].material.indices(lam))
+        normal = prism.boundaries[1].normal
+        tan_theta = normal[0] / normal[2]
+        factor = (n_o + n_e) / (2.0 * n_o * n_e)
+        z_iface = _boundary_z(prism.boundaries[1])
+        z_exit = _boundary_z(prism.boundaries[-1])
+        return {"split_deg": np.rad2deg(2.0 * np.abs(n_o - n_e) * abs(tan_theta)),
+                "tilt_deg": np.rad2deg(np.arctan(-tan_theta * factor)),
+                "z_at_axis_mm": z_exit - (z_exit - z_iface) * factor}
+    if prism.kind == "savart plate":
+        n_o, n_e = (n / n_s for n in prism.pieces[0].material.indices(lam))
+        t = float(prism.parameters["plate_thickness_mm"])
+        tan_axis = np.tan(np.deg2rad(float(prism.parameters["axis_angle_deg"])))
+        # Walk-off of each plate, tan ρ = (n_o² − n_e²) tan θ / (n_e² + n_o² tan² θ) (Born & Wolf,
+        # §15.3.3); at θ = 45° this is the Françon–Mallick (n_o² − n_e²)/(n_e² + n_o²).
+        tan_rho = (n_o ** 2 - n_e ** 2) * tan_axis / (n_e ** 2 + n_o ** 2 * tan_axis ** 2)
+        return {"shear_mm": np.sqrt(2.0) * t * np.abs(tan_rho)}
+    return {}

@@ -1,0 +1,128 @@
+"""Per-beam Jones matrices of a prism and the Mueller matrices derived from them.
+
+Bases: the input Jones vector lives in the transverse basis of the input wave normal and the
+output in that of each beam's exit wave normal, both x' = normalize(ŷ × d), y' = d × x' (x̂, ŷ
+at normal incidence; see :meth:`~prismdesign.optics.Beam.jones`). Matrices are "power
+normalised": for an input J_in of unit norm, |M J_in|² is the beam's power fraction.
+
+The Mueller matrix of a (deterministic) Jones matrix J is M = A (J ⊗ J*) A⁻¹ with
+
+    A = [[1, 0, 0, 1], [1, 0, 0, −1], [0, 1, 1, 0], [0, i, −i, 0]],
+
+(Azzam & Bashara, *Ellipsometry and Polarized Light*, 1977, §2.11, from memory), which fixes
+the Stokes vector of a field (E_x, E_y) as S = (|E_x|² + |E_y|², |E_x|² − |E_y|²,
+2 Re(E_x E_y*), 2 Im(E_x* E_y)).
+"""
+from dataclasses import dataclass
+
+import numpy as np
+
+from ._common import input_direction_deg
+
+__all__ = ["JonesResult", "jones_matrices", "mueller_from_jones", "stokes_from_jones"]
+
+_A = np.array([[1, 0, 0, 1], [1, 0, 0, -1], [0, 1, 1, 0], [0, 1j, -1j, 0]], dtype=complex)
+_A_INV = np.linalg.inv(_A)
+
+
+@dataclass(frozen=True, slots=True)
+class JonesResult:
+    """Jones and Mueller matrices of each beam.
+
+    Attributes
+    ----------
+    labels : tuple of str
+    jones : dict[str, ndarray, complex, shape (..., 2, 2)]
+        Column j is the exit Jones vector for unit input along basis vector j.
+    mueller : dict[str, ndarray, shape (..., 4, 4)]
+        Real Mueller matrix of each beam (see :func:`mueller_from_jones`).
+    include_path_phase : bool
+        Whether the propagation phase exp(i 2π L/λ) along each beam is included (needed to
+        combine beams coherently; irrelevant for a single beam's Mueller matrix).
+    """
+
+    labels: tuple
+    jones: dict
+    mueller: dict
+    include_path_phase: bool
+
+
+def stokes_from_jones(jones):
+    """Stokes vector of a fully polarised field.
+
+    Parameters
+    ----------
+    jones : array_like, complex, shape (..., 2)
+
+    Returns
+    -------
+    ndarray, shape (..., 4)
+        (|E_x|² + |E_y|², |E_x|² − |E_y|², 2 Re(E_x E_y*), 2 Im(E_x* E_y)), the convention of
+        :func:`mueller_from_jones`.
+    """
+    j = np.asarray(jones, dtype=complex)
+    if j.ndim == 0 or j.shape[-1] != 2:
+        raise ValueError(f"jones must be complex 2-vectors on the last axis, got shape {j.shape}")
+    ex, ey = j[..., 0], j[..., 1]
+    return np.stack([abs(ex) ** 2 + abs(ey) ** 2, abs(ex) ** 2 - abs(ey) ** 2,
+                     2 * (ex * ey.conj()).real, 2 * (ex.conj() * ey).imag], axis=-1)
+
+
+def mueller_from_jones(jones):
+    """Mueller matrix M = A (J ⊗ J*) A⁻¹ of a Jones matrix.
+
+    Parameters
+    ----------
+    jones : array_like, complex, shape (..., 2, 2)
+
+    Returns
+    -------
+    ndarray, shape (..., 4, 4)
+        Real Mueller matrix (Azzam & Bashara, 1977, §2.11, from memory). For any Jones matrix
+        the result is a pure Mueller matrix: tr(MᵀM) = 4 M₀₀² (Gil & Bernabeu, *Optica Acta*
+        32, 259, 1985).
+    """
+    j = np.asarray(jones, dtype=complex)
+    if j.ndim < 2 or j.shape[-2:] != (2, 2):
+        raise ValueError(f"jones must be 2x2 matrices on the last two axes, got shape {j.shape}")
+    # Kronecker product J ⊗ J*, batched: element [2a + c, 2b + d] = J[a, b] J*[c, d].
+    kron = (j[..., :, None, :, None] * j.conj()[..., None, :, None, :]).reshape(j.shape[:-2] + (4, 4))
+    return (_A @ kron @ _A_INV).real
+
+
+def jones_matrices(prism, wavelength_um, in_plane_deg=0.0, out_of_plane_deg=0.0, *,
+                   offset_mm=(0.0, 0.0), include_path_phase=False):
+    """Jones matrix (and Mueller matrix) of each beam leaving the prism.
+
+    Two coherent traces, with x and with y input polarisation, give the two columns.
+
+    Parameters
+    ----------
+    prism : Prism
+    wavelength_um : array_like
+        Vacuum wavelengths (µm).
+    in_plane_deg, out_of_plane_deg : array_like
+        Input direction (degrees).
+    offset_mm : array_like, shape (..., 2)
+        Entry point (x, y) on the entrance face (mm).
+    include_path_phase : bool
+        Include the propagation phase to the exit face (see :meth:`Beam.jones`).
+
+    Returns
+    -------
+    JonesResult
+        Matrices carry the broadcast shape of the inputs before their last two axes.
+    """
+    in_plane, out_of_plane = input_direction_deg(in_plane_deg, out_of_plane_deg)
+    # No pruning: a branch must exist in both traces to fill both columns.
+    traces = [prism.trace(wavelength_um, in_plane, out_of_plane, offset_mm=offset_mm,
+                          polarisation=pol, power_threshold=0.0)
+              for pol in ((1.0, 0.0), (0.0, 1.0))]
+    labels = tuple(label for label in traces[0].beams if label in traces[1].beams)
+    jones = {}
+    for label in labels:
+        columns = [t.beams[label].jones(include_path_phase=include_path_phase) for t in traces]
+        jones[label] = np.stack(columns, axis=-1)
+    mueller = {label: mueller_from_jones(j) for label, j in jones.items()}
+    return JonesResult(labels=labels, jones=jones, mueller=mueller,
+                       include_path_phase=bool(include_path_phase))
