@@ -34,7 +34,7 @@ __all__ = ["InterfaceResult", "solve_interface", "MODE_ORDER", "BLOCK_SIZE"]
 MODE_ORDER = ("to", "te", "ro", "re")
 
 #: Rays per block: keeps the working arrays of one block inside the CPU cache.
-BLOCK_SIZE = 4096
+BLOCK_SIZE = 8192
 
 _WORKERS = min(os.cpu_count() or 1, 8)
 
@@ -111,8 +111,11 @@ def _local_fields(q, kappa, n_o, n_e, cx, cy, cz, mode):
     return ex * inv_no2 + gamma * cx, ey * inv_no2 + gamma * cy, ez * inv_no2 + gamma * cz
 
 
-def _solve_block(k_in, e_in, normal, n_o1, n_e1, c1, n_o2, n_e2, c2, layer):
-    """Solve one block of rays; all inputs are contiguous component-first arrays (3, m)."""
+def _solve_block(k_in, e_in, normal, n_o1, n_e1, c1, n_o2, n_e2, c2, layer, out, block):
+    """Solve one block of rays and write the results into ``out[key][block]``.
+
+    All inputs are contiguous component-first arrays ((3, m) for vectors, (m,) for scalars).
+    """
     kx, ky, kz = k_in
     ex, ey, ez = e_in
     nx, ny, nz = normal
@@ -142,7 +145,6 @@ def _solve_block(k_in, e_in, normal, n_o1, n_e1, c1, n_o2, n_e2, c2, layer):
     w_len = np.sqrt(wx * wx + wy * wy + wz * wz)
     u2 = np.stack([wx / w_len, wy / w_len, wz / w_len])
     u1 = np.stack([u2[1] * nz - u2[2] * ny, u2[2] * nx - u2[0] * nz, u2[0] * ny - u2[1] * nx])
-    n_vec = np.stack([nx, ny, nz])
 
     # Incident field in the local frame; H = k × E with k = (κ, 0, k_n).
     e_loc_x = ex * u1[0] + ey * u1[1] + ez * u1[2]
@@ -164,38 +166,34 @@ def _solve_block(k_in, e_in, normal, n_o1, n_e1, c1, n_o2, n_e2, c2, layer):
     kappa2 = kappa * kappa
     t2o, t2e, _, _, ev2o, ev2e = normal_roots(kappa2, kappa * a2[0], a2[2], n_o2, n_e2)
     _, _, r1o, r1e, ev1o, ev1e = normal_roots(kappa2, kappa * a1[0], a1[2], n_o1, n_e1)
-    evanescent = np.stack([ev2o, ev2e, ev1o, ev1e])
+    # Internal wave order (to, ro, te, re): the o pair and the e pair are contiguous rows; the
+    # public order MODE_ORDER = (to, te, ro, re) is restored when writing the outputs.
+    evanescent = np.stack([ev2o, ev1o, ev2e, ev1e])
     complex_case = evanescent.any() or layer is not None
-    q = np.stack([t2o, t2e, r1o, r1e]).astype(complex if complex_case else float)
-    n_o = np.stack([n_o2, n_o2, n_o1, n_o1])
-    n_e = np.stack([n_e2, n_e2, n_e1, n_e1])
-    cx, cy, cz = (np.stack([a2[i], a2[i], a1[i], a1[i]]) for i in range(3))
-    fields = [None] * 4
-    for rows, mode in (((0, 2), "o"), ((1, 3), "e")):
-        r = list(rows)
-        fx, fy, fz = _local_fields(q[r], kappa, n_o[r], n_e[r], cx[r], cy[r], cz[r], mode)
-        for i, row in enumerate(rows):
-            fields[row] = (fx[i], fy[i], fz[i])
-    fx = np.stack([f[0] for f in fields])
-    fy = np.stack([f[1] for f in fields])
-    fz = np.stack([f[2] for f in fields])
+    q = np.stack([t2o, r1o, t2e, r1e]).astype(complex if complex_case else float)
+    n_o = np.stack([n_o2, n_o1])
+    n_e = np.stack([n_e2, n_e1])
+    cx, cy, cz = (np.stack([a2[i], a1[i]]) for i in range(3))
+    fo = _local_fields(q[:2], kappa, n_o, n_e, cx, cy, cz, "o")
+    fe = _local_fields(q[2:], kappa, n_o, n_e, cx, cy, cz, "e")
+    fx, fy, fz = (np.concatenate([a, b]) for a, b in zip(fo, fe))
     # Unit fields (hermitian norm) keep the boundary system well scaled.
     size = np.sqrt((fx * fx.conjugate() + fy * fy.conjugate() + fz * fz.conjugate()).real)
     fx, fy, fz = fx / size, fy / size, fz / size
     hx = -q * fy
     hy = q * fx - kappa * fz
-    # Columns of the boundary system: tangential (E₁, E₂, H₁, H₂) of each outgoing wave.
+    # Boundary system Σ t F_t − Σ r M F_r = M F_in with F = tangential (E₁, E₂, H₁, H₂): solved
+    # for (t, −r) with the plain columns, so no sign flips or copies are needed.
     cols = np.stack([fx, fy, hx, hy])                     # (component, wave, m)
     rhs = np.stack(rhs)                                   # (component, m)
-    if layer is None:
-        matrix = np.concatenate([cols[:, :2], -cols[:, 2:]], axis=1)
-    else:
+    if layer is not None:
         n_layer, wavelength_um, thickness_mm = layer
         m = np.moveaxis(layer_transfer_matrix(n_layer, kappa, wavelength_um, thickness_mm), 0, -1)
-        reflected = np.einsum("ijm,jwm->iwm", m, cols[:, 2:])
-        matrix = np.concatenate([cols[:, :2], -reflected], axis=1)
+        cols = cols.astype(complex)
+        cols[:, 1::2] = np.einsum("ijm,jwm->iwm", m, cols[:, 1::2])
         rhs = np.einsum("ijm,jm->im", m, rhs)
-    coefficient, singular = solve4_components(matrix, rhs, equilibrate=layer is not None)
+    coefficient, singular = solve4_components(cols, rhs, equilibrate=layer is not None)
+    coefficient[1::2] *= -1.0
 
     flux = (fx * hy.conjugate() - fy * hx.conjugate()).real
     power = (coefficient * coefficient.conjugate()).real * np.abs(flux)
@@ -203,12 +201,11 @@ def _solve_block(k_in, e_in, normal, n_o1, n_e1, c1, n_o2, n_e2, c2, layer):
     # Ray directions from the closed forms S ∥ k (o) and S ∥ εk (e), exact even where the
     # fields lose digits near the optic axis; εk = n_o² k + (n_e² − n_o²)(ĉ·k) ĉ.
     qr = q.real
-    delta = n_e * n_e - n_o * n_o
-    ck = delta * (cx * kappa + cz * qr)
-    odd = np.array([[0.0], [1.0], [0.0], [1.0]])      # e-waves only
-    sx = n_o * n_o * kappa + odd * ck * cx
-    sy = odd * ck * cy
-    sz = n_o * n_o * qr + odd * ck * cz
+    no2 = n_o * n_o
+    ck = (n_e * n_e - no2) * (cx * kappa + cz * qr[2:])
+    sx = np.concatenate([no2 * kappa, no2 * kappa + ck * cx])
+    sy = np.concatenate([np.zeros_like(ck), ck * cy])
+    sz = np.concatenate([no2 * qr[:2], no2 * qr[2:] + ck * cz])
     if complex_case and evanescent.any():
         # Evanescent waves: the time-averaged energy flow Re(E × H*) runs along the surface.
         hz = kappa * fy
@@ -217,18 +214,21 @@ def _solve_block(k_in, e_in, normal, n_o1, n_e1, c1, n_o2, n_e2, c2, layer):
         ez_ = (fx * hy.conjugate() - fy * hx.conjugate()).real
         sx, sy, sz = (np.where(evanescent, a, b) for a, b in ((ex_, sx), (ey_, sy), (ez_, sz)))
     s_len = np.sqrt(sx * sx + sy * sy + sz * sz)
+    sx, sy, sz = sx / s_len, sy / s_len, sz / s_len
 
-    def to_global(lx, ly, lz):
-        """Local (û₁, û₂, N̂) components of the four waves -> array (m, 4, 3)."""
-        return np.stack([lx * u1[i] + ly * u2[i] + lz * n_vec[i] for i in range(3)], axis=-1)
-
-    zero = np.zeros_like(q)
-    return dict(coefficient=coefficient.T, power_fraction=power_fraction.T,
-                evanescent=evanescent.T, singular=singular, normal=n_vec.T,
-                normal_component=q.T,
-                wave_vector=to_global(kappa + zero, zero, q).transpose(1, 0, 2),
-                e_field=to_global(fx, fy, fz).transpose(1, 0, 2),
-                ray_direction=to_global(sx / s_len, sy / s_len, sz / s_len).transpose(1, 0, 2))
+    order = [0, 2, 1, 3]                                  # internal -> MODE_ORDER
+    out["coefficient"][block] = coefficient[order].T
+    out["power_fraction"][block] = power_fraction[order].T
+    out["evanescent"][block] = evanescent[order].T
+    out["normal_component"][block] = q[order].T
+    out["singular"][block] = singular
+    n_vec = (nx, ny, nz)
+    for i in range(3):
+        out["normal"][block, i] = n_vec[i]
+        out["wave_vector"][block, :, i] = (kappa * u1[i] + q[order] * n_vec[i]).T
+        out["e_field"][block, :, i] = (fx[order] * u1[i] + fy[order] * u2[i] + fz[order] * n_vec[i]).T
+        out["ray_direction"][block, :, i] = (sx[order] * u1[i] + sy[order] * u2[i]
+                                             + sz[order] * n_vec[i]).T
 
 
 def solve_interface(wave_vector_in, field_in, normal, indices_1, axis_1, indices_2, axis_2,
@@ -288,8 +288,7 @@ def solve_interface(wave_vector_in, field_in, normal, indices_1, axis_1, indices
         block = slice(start, min(start + BLOCK_SIZE, size))
         args = [np.ascontiguousarray(c[..., block]) for c in columns]
         layer_block = tuple(v[block] for v in layer_flat) if layer is not None else None
-        for key, value in _solve_block(*args, layer_block).items():
-            out[key][block] = value
+        _solve_block(*args, layer_block, out, block)
 
     starts = range(0, size, BLOCK_SIZE)
     if size > 4 * BLOCK_SIZE and _WORKERS > 1:

@@ -23,8 +23,8 @@ def solve4_components(a, b, equilibrate=True):
         a[i, j] is the batch of entries (i, j).
     b : ndarray, shape (4, m)
     equilibrate : bool
-        Scale columns and rows first. Callers whose columns are already of order one (unit
-        fields) may skip it; the singularity test then uses the product of column norms.
+        Scale columns and rows first. Callers whose entries are already of order one (unit
+        fields) may skip it; the singularity test |det| < 1e-14 then assumes that scale.
 
     Returns
     -------
@@ -49,7 +49,7 @@ def solve4_components(a, b, equilibrate=True):
         det_scale = 1.0
     else:
         col_scale = 1.0
-        det_scale = np.prod(np.sqrt((_magnitude(a) ** 2).sum(axis=0)), axis=0)
+        det_scale = 1.0
     (a00, a01, a02, a03), (a10, a11, a12, a13), (a20, a21, a22, a23), (a30, a31, a32, a33) = a
     s0 = a00 * a11 - a10 * a01
     s1 = a00 * a12 - a10 * a02
