@@ -13,6 +13,7 @@ import time
 import numpy as np
 
 from prismdesign import FixedIndices, material
+from prismdesign.optics import interface
 from prismdesign.optics.interface import solve_interface
 from prismdesign.prisms import wollaston
 
@@ -49,17 +50,22 @@ def main(argv=None):
     calcite = FixedIndices(1.6557, 1.4849)
     n_o, n_e = calcite.indices(one)
 
-    def batched(with_vectors):
+    def batched(with_h):
         res = solve_interface(d, e, normal, (one, one), normal, (n_o, n_e), axis)
-        if with_vectors:
-            res.wave_vector, res.ray_direction, res.e_field, res.h_field
+        if with_h:
+            res.h_field
         return res
 
-    solve_only = best_of(3, lambda: batched(False))
-    solve_all = best_of(3, lambda: batched(True))
-    print(f"interface solves, batched ({count:,} rays): {count / solve_only:,.0f} /s "
-          f"(coefficients, power fractions, local fields)")
-    print(f"interface solves, batched, with all global-frame vectors: {count / solve_all:,.0f} /s")
+    solve_all = best_of(3, lambda: batched(False))
+    solve_h = best_of(3, lambda: batched(True))
+    print(f"interface solves, batched ({count:,} rays, all four waves: coefficients, power "
+          f"fractions, wave vectors, ray directions, E fields): {count / solve_all:,.0f} /s")
+    print(f"  ... also forming H = k x E for every wave: {count / solve_h:,.0f} /s")
+    for block in (1024, 4096, 32768):
+        default, interface.BLOCK_SIZE = interface.BLOCK_SIZE, block
+        t_block = best_of(2, lambda: batched(False))
+        interface.BLOCK_SIZE = default
+        print(f"  ... with blocks of {block:,} rays instead of {default:,}: {count / t_block:,.0f} /s")
 
     single = 2000
     t = best_of(1, lambda: [solve_interface(d[i], e[i], normal, (1.0, 1.0), normal,

@@ -14,12 +14,9 @@ optional coherent thin layer at the interface enters through its transfer matrix
 
 Speed: the solve works in the local frame (û₁ along the tangential wave vector, û₂ = N̂ × û₁, N̂)
 where k = (κ, 0, q) and every cross product collapses to a few products; arrays are
-component-wise and contiguous, processed in cache-sized blocks (on all cores), and real-valued
-unless a wave is evanescent or a layer is present.
+component-wise and contiguous, processed in cache-sized blocks, and real-valued unless a wave is
+evanescent or a layer is present.
 """
-import os
-from concurrent.futures import ThreadPoolExecutor
-
 import numpy as np
 
 from .eigenmodes import DEGENERATE_AXIS_TOLERANCE, normal_roots
@@ -35,8 +32,6 @@ MODE_ORDER = ("to", "te", "ro", "re")
 
 #: Rays per block: keeps the working arrays of one block inside the CPU cache.
 BLOCK_SIZE = 8192
-
-_WORKERS = min(os.cpu_count() or 1, 8)
 
 
 class InterfaceResult:
@@ -290,12 +285,8 @@ def solve_interface(wave_vector_in, field_in, normal, indices_1, axis_1, indices
         layer_block = tuple(v[block] for v in layer_flat) if layer is not None else None
         _solve_block(*args, layer_block, out, block)
 
-    starts = range(0, size, BLOCK_SIZE)
-    if size > 4 * BLOCK_SIZE and _WORKERS > 1:
-        # numpy releases the GIL inside its loops, so blocks run in parallel on threads.
-        with ThreadPoolExecutor(max_workers=_WORKERS) as pool:
-            list(pool.map(run, starts))
-    else:
-        for start in starts:
-            run(start)
+    # Blocks run one after another: threads were tried and gave no gain (the blocks are bound by
+    # memory traffic and by the interpreter between numpy calls, not by arithmetic).
+    for start in range(0, size, BLOCK_SIZE):
+        run(start)
     return InterfaceResult(**{key: value.reshape(shape + value.shape[1:]) for key, value in out.items()})
