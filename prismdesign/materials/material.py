@@ -57,13 +57,16 @@ class Reference:
     def short(self) -> str:
         """First author's surname and the year, e.g. ``"Ghosh 1999"``.
 
-        Typical-value entries without a source read ``"typical values"``.
+        Typical-value entries without a source read ``"typical values"``; entries whose title
+        marks the numbers as recalled get ``" (from memory)"`` appended.
         """
         if self.authors.lower().startswith("none"):
             return "typical values"
         first = self.authors.replace(" and ", ",").replace(";", ",").split(",")[0].strip()
         surname = first.split()[-1] if first.split() else first
-        return f"{surname} {self.year}"
+        # Numbers the data file marks as recalled, not checked against the source, say so.
+        unverified = " (from memory)" if "from memory" in self.title.lower() else ""
+        return f"{surname} {self.year}{unverified}"
 
     def __str__(self) -> str:
         parts = [self.authors, f'"{self.title}"']
