@@ -22,7 +22,7 @@ import numpy as np
 from .eigenmodes import DEGENERATE_AXIS_TOLERANCE, normal_roots
 from .linear4 import solve4_components
 from .thin_layer import layer_transfer_matrix
-from .vectors import cross, dot, normalize
+from .vectors import cross
 
 __all__ = ["InterfaceResult", "solve_interface", "MODE_ORDER", "BLOCK_SIZE"]
 

@@ -139,7 +139,7 @@ def run_demo(out_dir="prismdesign-demo"):
         "split: exact angle between the two beams; dev: in-plane deviation from the input;",
         f"clearance: gap between the 1/e² circles in beam radii (waist {setup['waist_mm']:g} mm);",
         "T: transmitted power of each beam for unpolarised input, uncoated faces;",
-        f"ER: extinction ratio of each channel read in the nominal frame, and leakage: power in",
+        "ER: extinction ratio of each channel read in the nominal frame, and leakage: power in",
         f"    the stray oo/ee beams, both with the first wedge's axis turned by "
         f"{setup['axis_error_deg']:g}°.",
         f"Field of view (leakage ≤ {limit:g}, both beams transmitted): in-plane "

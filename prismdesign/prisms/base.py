@@ -15,7 +15,7 @@ from ..optics import (FixedIndices, Medium, RectangularAperture, SequentialSyste
 from ..optics.vectors import as_unit_vectors
 
 __all__ = ["Piece", "Boundary", "Prism", "ideal_antireflection_layer", "check_positive",
-           "check_angle"]
+           "check_angle", "trace_from_front"]
 
 
 def check_positive(name, value):
@@ -276,12 +276,22 @@ class Prism:
             Arrays broadcast over wavelength, angles and offsets (in that order of axes as
             given by numpy broadcasting).
         """
-        direction = direction_from_angles(in_plane_deg, out_of_plane_deg)
-        offset = np.asarray(offset_mm, dtype=float)
-        if offset.ndim == 0 or offset.shape[-1] != 2:
-            raise ValueError(f"offset_mm must be (x, y) pairs on the last axis, got shape {offset.shape}")
-        # Start 1 mm before the entrance face, aimed to meet it at the requested offset.
-        start = np.concatenate([offset, np.zeros(offset.shape[:-1] + (1,))], axis=-1)
-        start = start - direction * (1.0 / direction[..., 2:3])
-        return trace(self.system(), start, direction, wavelength_um, polarisation,
-                     keep_reflections=keep_reflections, power_threshold=power_threshold)
+        return trace_from_front(self.system(), wavelength_um, in_plane_deg, out_of_plane_deg,
+                                offset_mm, polarisation, keep_reflections=keep_reflections,
+                                power_threshold=power_threshold)
+
+
+def trace_from_front(system, wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm,
+                     polarisation, **options):
+    """Trace collimated input that meets the entrance plane z = 0 at `offset_mm` (x, y).
+
+    Rays start 1 mm before the entrance plane along the direction given by the two angles
+    (degrees); `options` go to :func:`~prismdesign.optics.trace`.
+    """
+    direction = direction_from_angles(in_plane_deg, out_of_plane_deg)
+    offset = np.asarray(offset_mm, dtype=float)
+    if offset.ndim == 0 or offset.shape[-1] != 2:
+        raise ValueError(f"offset_mm must be (x, y) pairs on the last axis, got shape {offset.shape}")
+    start = np.concatenate([offset, np.zeros(offset.shape[:-1] + (1,))], axis=-1)
+    start = start - direction * (1.0 / direction[..., 2:3])
+    return trace(system, start, direction, wavelength_um, polarisation, **options)

@@ -17,10 +17,10 @@ from dataclasses import dataclass, replace
 
 import numpy as np
 
-from ..optics import Medium, SequentialSystem, Surface, direction_from_angles, trace
+from ..optics import SequentialSystem, Surface
 from ..optics.eigenmodes import normal_components
 from ..optics.system import RectangularAperture
-from .base import check_angle
+from .base import check_angle, trace_from_front
 from .stack import interface_layer, resolve_material
 from .wollaston import wedge_pair
 
@@ -277,8 +277,8 @@ def rejected_beam_system(prism, wavelength_um=None, in_plane_deg=0.0, out_of_pla
     media = full.media
     mirror = replace(full.surfaces[1], reflect_from=media[2], label="gap (reflecting)")
     head = SequentialSystem([media[0], media[1], media[1]], [full.surfaces[0], mirror])
-    result = _trace_from_front(head, lam, in_plane_deg, out_of_plane_deg, (0.0, 0.0),
-                               "unpolarised")
+    result = trace_from_front(head, lam, in_plane_deg, out_of_plane_deg, (0.0, 0.0),
+                              "unpolarised", power_threshold=0.0)
     # The totally reflected mode is the rejected one; otherwise take the stronger reflection.
     mode = glan_transmitted_mode(prism, lam, in_plane_deg) if prism.kind.startswith("glan") else ""
     label = {"e": "oo", "o": "ee"}.get(mode)
@@ -300,20 +300,6 @@ def rejected_beam_system(prism, wavelength_um=None, in_plane_deg=0.0, out_of_pla
     return SequentialSystem([media[0], media[1], media[1], media[-1]],
                             [full.surfaces[0], mirror, face], label=f"{prism.kind} rejected beam",
                             notes={"exit_face": name, "rejected_beam": label})
-
-
-def _trace_from_front(system, wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm,
-                      polarisation):
-    """Trace collimated input that meets the entrance face z = 0 at `offset_mm` (x, y)."""
-    direction = direction_from_angles(in_plane_deg, out_of_plane_deg)
-    offset = np.asarray(offset_mm, dtype=float)
-    if offset.ndim == 0 or offset.shape[-1] != 2:
-        raise ValueError(f"offset_mm must be (x, y) pairs on the last axis, got shape {offset.shape}")
-    start = np.concatenate([offset, np.zeros(offset.shape[:-1] + (1,))], axis=-1)
-    start = start - direction * (1.0 / direction[..., 2:3])
-    # Keep zero-power branches: a rejected beam that is totally reflected again at the face
-    # it meets must still be reported (with its flag), not pruned.
-    return trace(system, start, direction, wavelength_um, polarisation, power_threshold=0.0)
 
 
 @dataclass(frozen=True)
@@ -373,8 +359,10 @@ def trace_rejected(prism, wavelength_um=None, in_plane_deg=0.0, out_of_plane_deg
     lam = prism.design_wavelength_um if wavelength_um is None else wavelength_um
     system = rejected_beam_system(prism, float(np.ravel(lam)[0]), float(np.ravel(in_plane_deg)[0]),
                                   float(np.ravel(out_of_plane_deg)[0]))
-    result = _trace_from_front(system, lam, in_plane_deg, out_of_plane_deg, offset_mm,
-                               polarisation)
+    # Keep zero-power branches: a rejected beam that is totally reflected again at the face
+    # it meets must still be reported (with its flag), not pruned.
+    result = trace_from_front(system, lam, in_plane_deg, out_of_plane_deg, offset_mm,
+                              polarisation, power_threshold=0.0)
     label = system.notes["rejected_beam"]
     beam = result.beams[label]
     return RejectedBeam(label=label, exit_face=system.notes["exit_face"],

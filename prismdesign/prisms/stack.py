@@ -15,7 +15,7 @@ import numpy as np
 from ..materials import material as library_material
 from ..optics import FixedIndices, ThinLayer, optic_axis_from_angles
 from ..optics.vectors import as_unit_vectors
-from .base import Boundary, Piece, Prism, check_positive
+from .base import Boundary, Prism, check_positive
 
 __all__ = ["resolve_material", "resolve_axis", "interface_layer", "stacked_prism"]
 
