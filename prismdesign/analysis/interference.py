@@ -26,7 +26,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from ..optics.vectors import cross, dot
+from ..optics.vectors import closest_approach, dot
 
 __all__ = ["main_beams", "exit_wave_paths", "optical_path_difference", "shear_mm",
            "Localisation", "fringe_localisation", "small_angle_estimates", "PARALLEL_LIMIT"]
@@ -219,26 +219,6 @@ class Localisation:
     small_angle: dict = field(default_factory=dict)
 
 
-def _closest_approach(ra, da, rb, db):
-    """Midpoint and distance of closest approach of the lines r + s d (unit d)."""
-    w = ra - rb
-    b = dot(da, db)
-    d = dot(da, w)
-    e = dot(db, w)
-    # |da × db|² rather than 1 − b², which cancels badly for nearly parallel rays.
-    denom = dot(cross(da, db), cross(da, db))
-    parallel = denom < PARALLEL_LIMIT ** 2
-    safe = np.where(parallel, 1.0, denom)
-    s = (b * e - d) / safe
-    t = (e - b * d) / safe
-    pa = ra + s[..., None] * da
-    pb = rb + t[..., None] * db
-    mid = np.where(parallel[..., None], np.inf, 0.5 * (pa + pb))
-    gap = np.where(parallel, np.sqrt(np.maximum(dot(w, w) - d * d, 0.0)),
-                   np.sqrt(dot(pa - pb, pa - pb)))
-    return mid, gap, parallel
-
-
 def _boundary_z(boundary, x_mm=0.0):
     """z of a boundary plane at (x, 0)."""
     p, n = boundary.point_mm, boundary.normal
@@ -281,8 +261,8 @@ def fringe_localisation(prism, wavelength_um=None, *, beams=None, in_plane_deg=0
     x = np.linspace(-half, half, samples)
     offsets = np.stack([x, np.zeros_like(x)], axis=-1)
     a, b = _trace_pair(prism, beams, lam[..., None], in_plane_deg, out_of_plane_deg, offsets)
-    mid, gap, parallel = _closest_approach(a.exit_position_mm, a.exit_direction,
-                                           b.exit_position_mm, b.exit_direction)
+    mid, gap, parallel = closest_approach(a.exit_position_mm, a.exit_direction,
+                                          b.exit_position_mm, b.exit_direction, PARALLEL_LIMIT)
     at_inf = parallel.any(axis=-1)
     # Parallel exit waves differ in phase by the same amount everywhere (the OPD of fringes at
     # infinity, e.g. in a lens's focal plane): evaluate it at beam a's exit point.

@@ -152,6 +152,9 @@ class Prism:
         Material around the prism; default the library's standard air.
     parameters : dict
         The builder's inputs, for reports.
+    rotation_deg : float
+        Turn of the prism about z from its built orientation (set by :meth:`rotated`); the
+        clear aperture turns with it.
     """
 
     kind: str
@@ -162,6 +165,7 @@ class Prism:
     design_wavelength_um: float
     surround: object = None
     parameters: dict = field(default_factory=dict)
+    rotation_deg: float = 0.0
 
     def __post_init__(self):
         object.__setattr__(self, "pieces", tuple(self.pieces))
@@ -208,11 +212,13 @@ class Prism:
         """The same prism turned by `angle_deg` about the z axis (e.g. for a double Wollaston)."""
         a = np.deg2rad(angle_deg)
         rot = np.array([[np.cos(a), -np.sin(a), 0.0], [np.sin(a), np.cos(a), 0.0], [0.0, 0.0, 1.0]])
-        pieces = [replace(p, optic_axis=None if p.optic_axis is None else rot @ p.optic_axis)
+        # Row vectors times rotᵀ: also turns axes that carry leading (Monte Carlo) sample axes.
+        pieces = [replace(p, optic_axis=None if p.optic_axis is None else p.optic_axis @ rot.T)
                   for p in self.pieces]
         boundaries = [replace(b, point_mm=rot @ b.point_mm, normal=rot @ b.normal)
                       for b in self.boundaries]
-        return replace(self, pieces=pieces, boundaries=boundaries)
+        return replace(self, pieces=pieces, boundaries=boundaries,
+                       rotation_deg=self.rotation_deg + float(angle_deg))
 
     def shifted(self, dz_mm):
         """The same prism moved by `dz_mm` along z."""
@@ -242,12 +248,14 @@ class Prism:
                 n_in = float(inside.indices(lam)[0])
                 n_out = float(media[0].indices(lam)[0])
                 layer = ideal_antireflection_layer(n_out, n_in, lam)
-            tilt = np.sqrt(max(1.0 - b.normal[2] ** 2, 0.0))
-            # Face width in its own plane grows as 1/cos(tilt) for a face tilted about y.
-            half_w = 0.5 * self.width_mm / max(b.normal[2], 1e-6) * (1.0 + 1e-9)
-            aperture = RectangularAperture(half_w, 0.5 * self.height_mm,
-                                           width_direction=(1.0, 0.0, -b.normal[0] / max(b.normal[2], 1e-6))
-                                           if tilt > 0 else (1.0, 0.0, 0.0))
+            # The aperture's width runs along the prism's own x axis (turned with the prism),
+            # projected into the face; a face tilted by t is 1/cos t wider than the aperture.
+            a = np.deg2rad(self.rotation_deg)
+            width_dir = np.array([np.cos(a), np.sin(a), 0.0])
+            in_face = width_dir - np.dot(width_dir, b.normal) * b.normal
+            stretch = 1.0 / max(np.linalg.norm(in_face), 1e-6)
+            aperture = RectangularAperture(0.5 * self.width_mm * stretch * (1.0 + 1e-9),
+                                           0.5 * self.height_mm, width_direction=tuple(in_face))
             surfaces.append(Surface(b.point_mm, b.normal, aperture=aperture, layer=layer,
                                     label=b.label or f"boundary {i}"))
         return SequentialSystem(media, surfaces, label=self.kind)

@@ -12,7 +12,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 from scipy.optimize import brentq
 
-from ..optics.vectors import cross, dot
+from ..optics.vectors import closest_approach
 from .base import check_angle, check_positive
 from .stack import resolve_material
 from .wollaston import wedge_pair
@@ -45,20 +45,6 @@ class LocalisationPlane:
     tilt_deg: float
     points_mm: np.ndarray
     labels: tuple
-
-
-def _closest_approach(r1, d1, r2, d2):
-    """Midpoint of the closest approach of the lines r1 + t d1 and r2 + s d2 (batched)."""
-    # Cross-product form: a·c − b² would cancel catastrophically for nearly parallel rays
-    # (split angles of 1e-4 rad are common).
-    normal = cross(d1, d2)
-    den = dot(normal, normal)
-    # Parallel exit rays never cross: NaN (the plane is at infinity).
-    den = np.where(den > 1e-300, den, np.nan)
-    gap = r2 - r1
-    t = dot(cross(gap, d2), normal) / den
-    s = dot(cross(gap, d1), normal) / den
-    return 0.5 * (r1 + t[..., None] * d1 + r2 + s[..., None] * d2)
 
 
 def localisation_plane(prism, wavelength_um=None, in_plane_deg=0.0, out_of_plane_deg=0.0, *,
@@ -113,8 +99,9 @@ def localisation_plane(prism, wavelength_um=None, in_plane_deg=0.0, out_of_plane
         if label not in result.beams:
             raise ValueError(f"beam {label!r} not among the traced beams {sorted(result.beams)}")
     first, second = (result.beams[label] for label in labels)
-    crossing = _closest_approach(first.exit_position_mm[0], first.exit_direction[0],
-                                 second.exit_position_mm[0], second.exit_direction[0])
+    crossing, _, _ = closest_approach(first.exit_position_mm[0], first.exit_direction[0],
+                                      second.exit_position_mm[0], second.exit_direction[0],
+                                      parallel_limit=1e-150)
     finite = np.all(np.isfinite(crossing), axis=-1)
     if finite[0] and np.count_nonzero(finite) >= 3:
         slope, _ = np.polyfit(crossing[finite, 0], crossing[finite, 2], 1)
