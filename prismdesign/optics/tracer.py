@@ -214,8 +214,10 @@ def _prepare_input(position_mm, direction, wavelength_um, polarisation, extra_sh
     position = np.asarray(position_mm, dtype=float)
     direction = as_unit_vectors(direction, "direction")
     wavelength = np.asarray(wavelength_um, dtype=float)
-    if np.any(~np.isfinite(wavelength)) or np.any(wavelength <= 0):
-        raise ValueError("wavelength_um must be positive and finite")
+    bad = ~np.isfinite(wavelength) | (wavelength <= 0)
+    if np.any(bad):
+        raise ValueError(f"wavelength_um must be positive and finite (µm), got "
+                         f"{wavelength[bad].flat[0]!r}")
     if position.ndim == 0 or position.shape[-1] != 3:
         raise ValueError(f"position_mm must be 3-vectors on the last axis, got shape {position.shape}")
     pair = isinstance(polarisation, str)
