@@ -52,17 +52,26 @@ class InterfaceResult:
     normal_component : complex ndarray, shape (..., 4)
         q = k·N̂ of each wave.
     wave_vector, ray_direction, e_field, h_field : ndarray, shape (..., 4, 3)
+        (wave_vector and h_field are formed on first use.)
         Global-frame wave vectors (units of k0; complex where evanescent), unit Poynting
         directions (tangential for evanescent waves), unit electric fields (hermitian norm 1)
         and H = k × E.
     """
     __slots__ = ("coefficient", "power_fraction", "evanescent", "singular", "normal",
-                 "normal_component", "wave_vector", "e_field", "ray_direction", "_h_field")
+                 "normal_component", "e_field", "ray_direction", "_tangential", "_k", "_h_field")
 
     def __init__(self, **values):
         for key, value in values.items():
             setattr(self, key, value)
+        self._k = None
         self._h_field = None
+
+    @property
+    def wave_vector(self):
+        if self._k is None:
+            self._k = (self._tangential[..., None, :]
+                       + self.normal_component[..., None] * self.normal[..., None, :])
+        return self._k
 
     @property
     def h_field(self):
@@ -211,19 +220,22 @@ def _solve_block(k_in, e_in, normal, n_o1, n_e1, c1, n_o2, n_e2, c2, layer, out,
     s_len = np.sqrt(sx * sx + sy * sy + sz * sz)
     sx, sy, sz = sx / s_len, sy / s_len, sz / s_len
 
+    # Outputs are stored component-first ((4, m), (3, m), (3, 4, m)) so every write below is a
+    # contiguous row; solve_interface exposes them as (m, 4), (m, 3), (m, 4, 3) views.
     order = [0, 2, 1, 3]                                  # internal -> MODE_ORDER
-    out["coefficient"][block] = coefficient[order].T
-    out["power_fraction"][block] = power_fraction[order].T
-    out["evanescent"][block] = evanescent[order].T
-    out["normal_component"][block] = q[order].T
+    out["coefficient"][:, block] = coefficient[order]
+    out["power_fraction"][:, block] = power_fraction[order]
+    out["evanescent"][:, block] = evanescent[order]
+    out["normal_component"][:, block] = q[order]
     out["singular"][block] = singular
     n_vec = (nx, ny, nz)
+    e_out, s_out = out["e_field"], out["ray_direction"]
     for i in range(3):
-        out["normal"][block, i] = n_vec[i]
-        out["wave_vector"][block, :, i] = (kappa * u1[i] + q[order] * n_vec[i]).T
-        out["e_field"][block, :, i] = (fx[order] * u1[i] + fy[order] * u2[i] + fz[order] * n_vec[i]).T
-        out["ray_direction"][block, :, i] = (sx[order] * u1[i] + sy[order] * u2[i]
-                                             + sz[order] * n_vec[i]).T
+        out["normal"][i, block] = n_vec[i]
+        out["_tangential"][i, block] = kappa * u1[i]
+        for j, w in enumerate(order):
+            e_out[i, j, block] = fx[w] * u1[i] + fy[w] * u2[i] + fz[w] * n_vec[i]
+            s_out[i, j, block] = sx[w] * u1[i] + sy[w] * u2[i] + sz[w] * n_vec[i]
 
 
 def solve_interface(wave_vector_in, field_in, normal, indices_1, axis_1, indices_2, axis_2,
@@ -273,11 +285,11 @@ def solve_interface(wave_vector_in, field_in, normal, indices_1, axis_1, indices
     columns = [vectors(k_in), vectors(e_in), vectors(normal), scalars(n_o1), scalars(n_e1),
                vectors(axis_1), scalars(n_o2), scalars(n_e2), vectors(axis_2)]
     layer_flat = [scalars(v) for v in layer_arrays]
-    out = {"coefficient": np.empty((size, 4), complex), "power_fraction": np.empty((size, 4)),
-           "evanescent": np.empty((size, 4), bool), "singular": np.empty(size, bool),
-           "normal": np.empty((size, 3)), "normal_component": np.empty((size, 4), complex),
-           "wave_vector": np.empty((size, 4, 3), complex), "e_field": np.empty((size, 4, 3), complex),
-           "ray_direction": np.empty((size, 4, 3))}
+    out = {"coefficient": np.empty((4, size), complex), "power_fraction": np.empty((4, size)),
+           "evanescent": np.empty((4, size), bool), "singular": np.empty(size, bool),
+           "normal": np.empty((3, size)), "normal_component": np.empty((4, size), complex),
+           "_tangential": np.empty((3, size)), "e_field": np.empty((3, 4, size), complex),
+           "ray_direction": np.empty((3, 4, size))}
 
     def run(start):
         block = slice(start, min(start + BLOCK_SIZE, size))
@@ -289,4 +301,6 @@ def solve_interface(wave_vector_in, field_in, normal, indices_1, axis_1, indices
     # memory traffic and by the interpreter between numpy calls, not by arithmetic).
     for start in range(0, size, BLOCK_SIZE):
         run(start)
-    return InterfaceResult(**{key: value.reshape(shape + value.shape[1:]) for key, value in out.items()})
+    # Views with the ray axis first, then split into the broadcast shape (no copies).
+    views = {key: value.T.reshape(shape + value.shape[:-1][::-1]) for key, value in out.items()}
+    return InterfaceResult(**views)
