@@ -109,3 +109,29 @@ def test_demo_writes_its_files(capsys, tmp_path):
     first = rows[1].split(",")
     assert first[0] == "calcite" and float(first[2]) == 0.8
     assert float(first[5]) == pytest.approx(material("calcite").birefringence(0.8), abs=1e-6)
+
+
+def test_demo_design_table_and_figures(capsys, tmp_path):
+    # The demo's printed split must be the exact Snell's-law value for its symmetric Wollaston
+    # at normal incidence: refraction at the tilted interface (n₁ sinθ = n₂ sinθ') and at the
+    # parallel exit face (n₂ sin(θ' − θ) = n_air sin φ); Born & Wolf, Principles of Optics §1.5.1.
+    from prismdesign.output.demo import DEMO_SETUP
+
+    code, out, _ = run(capsys, "demo", "--out", str(tmp_path / "demo"))
+    assert code == 0
+    assert out.count("IEC 60825-1") == 1
+    for name in ("split_versus_wavelength.png", "side_view.png", "detector_footprints.png",
+                 "field_of_view.png"):
+        assert (tmp_path / "demo" / name).read_bytes()[:4] == b"\x89PNG"
+    row = next(line for line in out.splitlines() if line.startswith("0.900 "))
+    printed_split = float(row.split()[1])
+    calcite, air = material("calcite"), material("air")
+    n_o, n_e, n_air = calcite.n_o(0.9), calcite.n_e(0.9), air.n(0.9)
+    theta = np.deg2rad(DEMO_SETUP["wedge_angle_deg"])
+
+    def exit_angle(n1, n2):
+        inside = np.arcsin(n1 * np.sin(theta) / n2) - theta
+        return np.arcsin(n2 * np.sin(inside) / n_air)
+
+    expected = np.rad2deg(abs(exit_angle(n_e, n_o) - exit_angle(n_o, n_e)))
+    assert printed_split == pytest.approx(expected, abs=1e-4)   # printed to 4 decimals
