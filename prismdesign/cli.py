@@ -9,12 +9,29 @@ from __future__ import annotations
 import argparse
 import sys
 import warnings
+from pathlib import Path
 
 import numpy as np
 
 from . import material, materials
 
 REFERENCE_WAVELENGTH_UM = 0.6328   # HeNe line, the customary wavelength for quoting indices
+FIGURE_SUFFIXES = (".png", ".pdf", ".svg")
+MAX_POINTS = 10000                 # a table longer than this is a typo, not a request
+
+
+def _figure_path(text: str) -> Path:
+    """Check a --plot file name before any work is done, so a typo costs nothing."""
+    path = Path(text)
+    if path.suffix.lower() not in FIGURE_SUFFIXES:
+        raise ValueError(f"--plot {text}: need a file name ending in "
+                         f"{', '.join(FIGURE_SUFFIXES)}")
+    if path.is_dir():
+        raise ValueError(f"--plot {text}: is a folder; need a file name ending in "
+                         f"{', '.join(FIGURE_SUFFIXES)}")
+    if not path.parent.is_dir():
+        raise ValueError(f"--plot {text}: the folder {path.parent} does not exist")
+    return path
 
 
 def _materials_command(args) -> str:
@@ -41,8 +58,17 @@ def _index_command(args) -> str:
         raise ValueError(f"--band {lo:g} {hi:g}: need two increasing positive wavelengths in um")
     if args.points < 2:
         raise ValueError(f"--points {args.points}: need at least 2")
+    if args.points > MAX_POINTS:
+        raise ValueError(f"--points {args.points}: need at most {MAX_POINTS}")
+    figure = _figure_path(args.plot) if args.plot else None
     lam = np.linspace(lo, hi, args.points)
     t = args.temperature
+    # Check the whole band once: a model that fails outside its data range names that range.
+    try:
+        item.indices(lam, t)
+    except ValueError as error:
+        raise ValueError(f"{error}; the {item.name} data cover {item.validity_um[0]:g}-"
+                         f"{item.validity_um[1]:g} um") from None
     if item.kind == "uniaxial":
         n_o, n_e = item.indices(lam, t)
         g_o, g_e = item.group_index_o(lam, t), item.group_index_e(lam, t)
@@ -58,17 +84,25 @@ def _index_command(args) -> str:
     text = [f"{item.name} ({item.kind}) at {temperature:g} C; data valid "
             f"{item.validity_um[0]:g}-{item.validity_um[1]:g} um", f"source: {source}", "",
             format_table(headers, rows)]
-    if args.plot:
+    if figure is not None:
         from .output.material_plots import plot_indices
         # The figure uses a fine grid of its own so curves stay smooth for any --points.
         fine = np.linspace(lo, hi, 400)
-        text += ["", f"wrote {plot_indices(item, fine, args.plot, t)}"]
+        text += ["", f"wrote {plot_indices(item, fine, figure, t)}"]
     return "\n".join(text)
 
 
 def _demo_command(args) -> str:
     from .output.demo import run_demo
-    return run_demo(args.out)
+    out = Path(args.out)
+    if out.exists() and not out.is_dir():
+        raise ValueError(f"--out {args.out}: is a file; need a folder (created if missing)")
+    try:
+        out.mkdir(parents=True, exist_ok=True)
+    except OSError as error:
+        raise ValueError(f"--out {args.out}: cannot create the folder "
+                         f"({error.strerror or error})") from None
+    return run_demo(out)
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -104,6 +138,13 @@ def main(argv=None) -> int:
         except (ValueError, LookupError, OSError) as error:
             print(f"prismdesign {args.command}: error: {error}", file=sys.stderr)
             return 2
+        except KeyboardInterrupt:
+            print(f"prismdesign {args.command}: interrupted", file=sys.stderr)
+            return 130
+        except Exception as error:   # a bug, not bad input: one line, and ask for a report
+            print(f"prismdesign {args.command}: internal error ({type(error).__name__}: "
+                  f"{error}); please report it with the command line you used", file=sys.stderr)
+            return 1
     for message in dict.fromkeys(str(w.message) for w in caught):
         print(f"warning: {message}", file=sys.stderr)
     print(text)

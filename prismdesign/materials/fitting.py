@@ -56,9 +56,19 @@ def _scaled_condition(jac) -> float:
     return float(np.linalg.cond(jac / norms))
 
 
+def _as_data(value, name):
+    """Measured values as a flat float array; text or ragged input fails in one line."""
+    try:
+        if isinstance(value, (str, bytes)):
+            raise TypeError
+        return np.asarray(value, dtype=float).ravel()
+    except (TypeError, ValueError):
+        raise ValueError(f"{name} = {value!r:.80} must be an array of numbers") from None
+
+
 def _check_data(wavelength_um, n, label):
-    lam = np.asarray(wavelength_um, dtype=float).ravel()
-    nn = np.asarray(n, dtype=float).ravel()
+    lam = _as_data(wavelength_um, f"{label}: wavelength_um")
+    nn = _as_data(n, f"{label}: {label}")
     if lam.shape != nn.shape:
         raise ValueError(f"{label}: {lam.size} wavelengths but {nn.size} indices; allowed: "
                          f"equal lengths")
@@ -216,6 +226,13 @@ def fit_dispersion(wavelength_um, n, form: str = "sellmeier", terms: int = 2, *,
     """
     if form not in FIT_FORMS:
         raise ValueError(f"form = {form!r} cannot be fitted; allowed: {', '.join(FIT_FORMS)}")
+    # Checked before the (slow) fit so that a typo does not cost a fit.
+    if not isinstance(name, str) or not name.strip():
+        raise ValueError(f"name = {name!r} must be a non-empty string")
+    if isinstance(temperature_c, (bool, str)) or not np.isscalar(temperature_c) \
+            or not np.isfinite(temperature_c) or temperature_c <= -273.15:
+        raise ValueError(f"temperature_c = {temperature_c!r} must be a finite number of °C above "
+                         f"-273.15")
     if isinstance(terms, bool) or not isinstance(terms, int) or terms < 1:
         raise ValueError(f"terms = {terms!r} must be a positive integer")
     if form == "power_series_n2":

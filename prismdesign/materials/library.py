@@ -50,6 +50,9 @@ def load_material(path, strict: bool = False):
     OSError
         The file cannot be read.
     """
+    if not isinstance(path, (str, os.PathLike)):
+        raise ValueError(f"path = {path!r} must be a file name (str or os.PathLike) of a "
+                         f"dispersion-data TOML file")
     path = Path(path)
     try:
         with open(path, "rb") as fh:
@@ -80,7 +83,16 @@ def save_material(material, path) -> Path:
     pathlib.Path
         The written path.
     """
+    if getattr(material, "kind", None) not in ("isotropic", "uniaxial") or not hasattr(
+            material, "validity_um"):
+        raise ValueError(f"material must be an IsotropicMaterial or UniaxialMaterial, got "
+                         f"{type(material).__name__} {material!r:.60}")
+    if not isinstance(path, (str, os.PathLike)):
+        raise ValueError(f"path = {path!r} must be a file name (str or os.PathLike)")
     path = Path(path)
+    if not path.parent.is_dir():
+        raise FileNotFoundError(f"cannot save {material.name} to {path}: the folder "
+                                f"{path.parent} does not exist")
     data = material_to_dict(material)
     fd, temp_name = tempfile.mkstemp(dir=path.parent, prefix=f".{path.name}.", suffix=".tmp")
     try:

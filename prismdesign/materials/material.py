@@ -126,6 +126,13 @@ class _MaterialBase:
     """Range, temperature and warning logic shared by both kinds (not public)."""
 
     def __post_init__(self):
+        if not isinstance(self.name, str) or not self.name.strip():
+            raise ValueError(f"material name = {self.name!r} must be a non-empty string")
+        t0 = self.temperature_c
+        if isinstance(t0, (bool, str)) or not np.isscalar(t0) or not np.isfinite(t0) \
+                or t0 <= -273.15:
+            raise ValueError(f"{self.name}: temperature_c = {t0!r} must be a finite number of "
+                             f"°C above -273.15")
         lo, hi = self.validity_um
         if not (0.0 < lo < hi and np.isfinite(hi)):
             raise ValueError(f"{self.name}: validity_um = {list(self.validity_um)} must be two "
@@ -149,7 +156,12 @@ class _MaterialBase:
 
     def _wavelength(self, wavelength_um, strict):
         try:
+            # None would become NaN and True 1 µm, text would be parsed: refuse all three.
+            if wavelength_um is None or isinstance(wavelength_um, (str, bytes, bool, np.bool_)):
+                raise TypeError
             lam = np.asarray(wavelength_um, dtype=float)
+            if np.asarray(wavelength_um).dtype.kind in "USb":
+                raise TypeError
         except (TypeError, ValueError):
             raise ValueError(f"wavelength_um = {wavelength_um!r} must be a number or an array "
                              f"of numbers (µm)") from None
@@ -181,6 +193,8 @@ class _MaterialBase:
         if temperature_c is None:
             return 0.0
         try:
+            if isinstance(temperature_c, (str, bytes, bool, np.bool_)):
+                raise TypeError
             t = np.asarray(temperature_c, dtype=float)
         except (TypeError, ValueError):
             raise ValueError(f"temperature_c = {temperature_c!r} must be a number (°C)") from None
@@ -208,6 +222,13 @@ class _MaterialBase:
     def _value(self, model, dn_dt, lam, temperature_c, strict, group=False):
         """Index (or group index) for an already checked wavelength array."""
         shift = self._shift(temperature_c, dn_dt, strict)
+        if np.ndim(temperature_c) and np.ndim(lam):
+            try:
+                np.broadcast_shapes(np.shape(lam), np.shape(temperature_c))
+            except ValueError:
+                raise ValueError(f"{self.name}: wavelength_um of shape {np.shape(lam)} and "
+                                 f"temperature_c of shape {np.shape(temperature_c)} do not "
+                                 f"broadcast; allowed: numpy-broadcastable shapes") from None
         try:
             value = model.n(lam) + shift
             if group:

@@ -113,7 +113,7 @@ def run_demo(out_dir="prismdesign-demo"):
                   f"(1/e² radius; dashed: 3 mm photodiodes)")
 
         limit = setup["leakage_limit"]
-        leaks = [label for label in ("oo", "ee")]
+        leaks = ("oo", "ee")   # the stray beams of a Wollaston: same mode in both wedges
         requirements = [analysis.beam_passes(main[0]), analysis.beam_passes(main[1])] + [
             analysis.power_at_most(label, limit) for label in leaks]
         fov = analysis.field_of_view(prism, setup["design_wavelength_um"],

@@ -15,15 +15,25 @@ from ..optics import (FixedIndices, Medium, RectangularAperture, SequentialSyste
 from ..optics.vectors import as_unit_vectors
 
 __all__ = ["Piece", "Boundary", "Prism", "ideal_antireflection_layer", "check_positive",
-           "check_angle", "trace_from_front"]
+           "check_angle", "check_angles", "check_finite", "check_flag", "check_prism",
+           "trace_from_front"]
+
+
+def _as_float(name, value, what):
+    """float(value), refusing text and booleans (a typo should not become a number)."""
+    if isinstance(value, (str, bytes)):
+        raise ValueError(f"{name} must be {what}, not text: got {value!r}")
+    if isinstance(value, (bool, np.bool_)):
+        raise ValueError(f"{name} must be {what}, got the boolean {value!r}")
+    try:
+        return float(value)
+    except (TypeError, ValueError):
+        raise ValueError(f"{name} must be {what}, got {value!r}") from None
 
 
 def check_positive(name, value):
     """Return float(value) or fail with a one-line message if it is not positive and finite."""
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        raise ValueError(f"{name} must be a positive number, got {value!r}") from None
+    v = _as_float(name, value, "a positive number")
     if not (np.isfinite(v) and v > 0):
         raise ValueError(f"{name} must be a positive number, got {value!r}")
     return v
@@ -31,13 +41,39 @@ def check_positive(name, value):
 
 def check_angle(name, value, low, high):
     """Return float(value) or fail with a one-line message if it is outside (low, high) degrees."""
-    try:
-        v = float(value)
-    except (TypeError, ValueError):
-        raise ValueError(f"{name} must be an angle in degrees, got {value!r}") from None
+    v = _as_float(name, value, "an angle in degrees")
     if not (np.isfinite(v) and low < v < high):
         raise ValueError(f"{name} must lie between {low:g} and {high:g} degrees, got {value!r}")
     return v
+
+
+def check_finite(name, value, what="a finite number"):
+    """Return float(value) or fail with a one-line message if it is not a finite number."""
+    v = _as_float(name, value, what)
+    if not np.isfinite(v):
+        raise ValueError(f"{name} must be {what}, got {value!r}")
+    return v
+
+
+def check_angles(name, value):
+    """Angles in degrees as a float array (any shape); text, NaN and infinity fail in one line."""
+    try:
+        if isinstance(value, (str, bytes)):
+            raise TypeError
+        angles = np.asarray(value, dtype=float)
+    except (TypeError, ValueError):
+        raise ValueError(f"{name} must be an angle in degrees or an array of angles, got "
+                         f"{value!r}") from None
+    if not np.all(np.isfinite(angles)):
+        raise ValueError(f"{name} must be finite (degrees), got {value!r}")
+    return angles
+
+
+def check_flag(name, value):
+    """Return bool(value) for a true/false switch, refusing anything else in one line."""
+    if not isinstance(value, (bool, np.bool_)):
+        raise ValueError(f"{name} must be True or False, got {value!r}")
+    return bool(value)
 
 
 @dataclass(frozen=True)
@@ -113,6 +149,9 @@ def ideal_antireflection_layer(n_outside, n_inside, wavelength_um):
     ThinLayer
         Index √(n₁n₂), thickness λ/(4n) (Born & Wolf, *Principles of Optics*, §1.6.4).
     """
+    n_outside = check_positive("n_outside", n_outside)
+    n_inside = check_positive("n_inside", n_inside)
+    wavelength_um = check_positive("wavelength_um", wavelength_um)
     n_c = float(np.sqrt(n_outside * n_inside))
     return ThinLayer(FixedIndices(n_c, name="ideal antireflection layer"),
                      thickness_mm=wavelength_um / (4.0 * n_c) * 1e-3)
@@ -148,6 +187,8 @@ class Prism:
     width_mm, height_mm : float
         Clear aperture along x and y.
     design_wavelength_um : float
+        Design wavelength (µm): the coatings are designed for it and analyses that take an
+        optional wavelength default to it.
     surround : object, optional
         Material around the prism; default the library's standard air.
     parameters : dict
@@ -209,7 +250,9 @@ class Prism:
         return float(max(poly[:, 0].max() for _, poly in self.outline() if len(poly)))
 
     def rotated(self, angle_deg):
-        """The same prism turned by `angle_deg` about the z axis (e.g. for a double Wollaston)."""
+        """The same prism turned by `angle_deg` (degrees) about the z axis (e.g. for a double
+        Wollaston)."""
+        angle_deg = check_finite("angle_deg", angle_deg, "an angle in degrees")
         a = np.deg2rad(angle_deg)
         rot = np.array([[np.cos(a), -np.sin(a), 0.0], [np.sin(a), np.cos(a), 0.0], [0.0, 0.0, 1.0]])
         # Row vectors times rotᵀ: also turns axes that carry leading (Monte Carlo) sample axes.
@@ -221,7 +264,8 @@ class Prism:
                        rotation_deg=self.rotation_deg + float(angle_deg))
 
     def shifted(self, dz_mm):
-        """The same prism moved by `dz_mm` along z."""
+        """The same prism moved by `dz_mm` (mm) along z."""
+        dz_mm = check_finite("dz_mm", dz_mm, "a finite distance in mm")
         boundaries = [replace(b, point_mm=b.point_mm + np.array([0.0, 0.0, dz_mm]))
                       for b in self.boundaries]
         return replace(self, boundaries=boundaries)
@@ -289,6 +333,15 @@ class Prism:
                                 power_threshold=power_threshold)
 
 
+def check_prism(value, name="prism"):
+    """Return `value` if it is a :class:`Prism`, else fail with a one-line message."""
+    if not isinstance(value, Prism):
+        raise ValueError(f"{name} must be a Prism made by a builder in prismdesign.prisms "
+                         f"(wollaston, glan_air_spaced, ...), got {type(value).__name__} "
+                         f"{value!r:.60}")
+    return value
+
+
 def trace_from_front(system, wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm,
                      polarisation, **options):
     """Trace collimated input that meets the entrance plane z = 0 at `offset_mm` (x, y).
@@ -297,7 +350,13 @@ def trace_from_front(system, wavelength_um, in_plane_deg, out_of_plane_deg, offs
     (degrees); `options` go to :func:`~prismdesign.optics.trace`.
     """
     direction = direction_from_angles(in_plane_deg, out_of_plane_deg)
-    offset = np.asarray(offset_mm, dtype=float)
+    try:
+        offset = np.asarray(offset_mm, dtype=float)
+    except (TypeError, ValueError):
+        raise ValueError(f"offset_mm must be (x, y) pairs of numbers in mm, got {offset_mm!r}") \
+            from None
+    if not np.all(np.isfinite(offset)):
+        raise ValueError(f"offset_mm must be finite (mm), got {offset_mm!r}")
     if offset.ndim == 0 or offset.shape[-1] != 2:
         raise ValueError(f"offset_mm must be (x, y) pairs on the last axis, got shape {offset.shape}")
     start = np.concatenate([offset, np.zeros(offset.shape[:-1] + (1,))], axis=-1)

@@ -7,10 +7,8 @@ interface may carry a cement film or an air gap (:func:`~prismdesign.prisms.inte
 """
 from dataclasses import dataclass, replace
 
-import numpy as np
-
 from ..optics import ThinLayer
-from .base import Piece, Prism, check_positive
+from .base import Piece, Prism, check_finite, check_positive
 from .stack import interface_layer, resolve_axis, resolve_material, stacked_prism
 from .wollaston import wollaston
 
@@ -41,6 +39,14 @@ class StackPiece:
     exit_face_deg: float = 0.0
     thickness_mm: float = 1.0
     label: str = ""
+
+
+def _as_list(items, name, kind):
+    """The pieces (or wedges) as a list; a lone string or number is refused in one line."""
+    if isinstance(items, (str, bytes, dict, StackPiece)) or not hasattr(items, "__iter__"):
+        raise ValueError(f"{name} must be a list with one entry per {kind} (dicts, tuples or "
+                         f"StackPiece), got {items!r}")
+    return list(items)
 
 
 def _as_spec(item, index, cls_keys, kind):
@@ -109,6 +115,7 @@ def free_stack(pieces, *, interfaces=None, width_mm=10.0, height_mm=10.0,
     width_mm, height_mm : float
         Clear aperture along x and y (mm).
     design_wavelength_um : float
+        Design wavelength (µm) of the coatings and default wavelength of the analyses.
     coated : bool
         Ideal antireflection coatings on the outer faces.
     kind : str
@@ -119,9 +126,11 @@ def free_stack(pieces, *, interfaces=None, width_mm=10.0, height_mm=10.0,
     Prism
     """
     keys = ("material", "optic_axis", "exit_face_deg", "thickness_mm", "label")
-    specs = [_as_spec(item, i, keys, "piece") for i, item in enumerate(pieces)]
+    specs = [_as_spec(item, i, keys, "piece") for i, item in enumerate(_as_list(pieces, "pieces",
+                                                                                "piece"))]
     built = [_piece(spec, i) for i, spec in enumerate(specs)]
-    layers = None if interfaces is None else [_layer(v, i) for i, v in enumerate(interfaces)]
+    layers = None if interfaces is None else [
+        _layer(v, i) for i, v in enumerate(_as_list(interfaces, "interfaces", "interface"))]
     return stacked_prism(kind, built, [s.get("exit_face_deg", 0.0) for s in specs],
                          [s.get("thickness_mm", 1.0) for s in specs], width_mm=width_mm,
                          height_mm=height_mm, design_wavelength_um=design_wavelength_um,
@@ -152,16 +161,13 @@ def compound_prism(wedges, *, interfaces=None, width_mm=10.0, height_mm=10.0,
         ``kind = "compound prism"``.
     """
     keys = ("material", "optic_axis", "wedge_angle_deg", "thickness_mm", "label")
-    specs = [_as_spec(item, i, keys, "wedge") for i, item in enumerate(wedges)]
+    specs = [_as_spec(item, i, keys, "wedge") for i, item in enumerate(_as_list(wedges, "wedges",
+                                                                                "wedge"))]
     total = 0.0
     pieces = []
     for i, spec in enumerate(specs):
-        try:
-            angle = float(spec.get("wedge_angle_deg", 0.0))
-        except (TypeError, ValueError):
-            raise ValueError(f"wedge {i}: wedge_angle_deg must be a number of degrees, got "
-                             f"{spec.get('wedge_angle_deg')!r}") from None
-        total += angle
+        total += check_finite(f"wedge {i}: wedge_angle_deg", spec.get("wedge_angle_deg", 0.0),
+                              "a number of degrees")
         pieces.append(dict(material=spec["material"], optic_axis=spec.get("optic_axis"),
                            exit_face_deg=total, thickness_mm=spec.get("thickness_mm", 1.0),
                            label=spec.get("label", "")))
@@ -193,12 +199,7 @@ def in_series(first, second, spacing_mm=1.0, rotation_deg=0.0, *, kind="prisms i
         if not isinstance(value, Prism):
             raise ValueError(f"{name} must be a Prism, got {type(value).__name__}")
     spacing = check_positive("spacing_mm", spacing_mm)
-    try:
-        rotation = float(rotation_deg)
-    except (TypeError, ValueError):
-        raise ValueError(f"rotation_deg must be an angle in degrees, got {rotation_deg!r}") from None
-    if not np.isfinite(rotation):
-        raise ValueError(f"rotation_deg must be finite, got {rotation_deg!r}")
+    rotation = check_finite("rotation_deg", rotation_deg, "a finite angle in degrees")
     if getattr(first.surround, "name", None) != getattr(second.surround, "name", None):
         raise ValueError(f"both prisms must sit in the same medium, got "
                          f"{first.surround.name!r} and {second.surround.name!r}")

@@ -12,8 +12,8 @@ where tan ρ_max = (n_o² − n_e²) / (2 n_o n_e).
 """
 import numpy as np
 
-from .base import Piece, check_angle, check_positive
-from .stack import resolve_material, stacked_prism
+from .base import Piece, check_angle, check_angles, check_positive
+from .stack import resolve_crystal, stacked_prism
 
 __all__ = ["walkoff_displacer", "walkoff_angle_deg", "max_walkoff_cut_angle_deg"]
 
@@ -36,8 +36,8 @@ def walkoff_angle_deg(material, wavelength_um, cut_angle_deg):
         ρ in degrees, positive when the ray turns away from the optic axis (negative crystals,
         n_e < n_o), negative when it turns toward it (positive crystals).
     """
-    n_o, n_e = resolve_material(material).indices(np.asarray(wavelength_um, dtype=float))
-    theta = np.deg2rad(np.asarray(cut_angle_deg, dtype=float))
+    n_o, n_e = resolve_crystal(material).indices(wavelength_um)
+    theta = np.deg2rad(check_angles("cut_angle_deg", cut_angle_deg))
     s, c = np.sin(theta), np.cos(theta)
     tan_rho = (n_o ** 2 - n_e ** 2) * s * c / (n_e ** 2 * c ** 2 + n_o ** 2 * s ** 2)
     return np.rad2deg(np.arctan(tan_rho))[()]
@@ -57,7 +57,7 @@ def max_walkoff_cut_angle_deg(material, wavelength_um):
     ndarray or float
         θ in degrees.
     """
-    n_o, n_e = resolve_material(material).indices(np.asarray(wavelength_um, dtype=float))
+    n_o, n_e = resolve_crystal(material).indices(wavelength_um)
     return np.rad2deg(np.arctan2(n_e, n_o))[()]
 
 
@@ -82,6 +82,8 @@ def walkoff_displacer(material="calcite", length_mm=10.0, cut_angle_deg=None, *,
     width_mm, height_mm : float
         Clear aperture along x and y (mm).
     design_wavelength_um : float
+        Design wavelength (µm): sets the default cut angle, the coatings and the default
+        wavelength of the analyses.
     coated : bool
         Ideal antireflection coatings on both faces.
 
@@ -91,7 +93,7 @@ def walkoff_displacer(material="calcite", length_mm=10.0, cut_angle_deg=None, *,
         ``kind = "walk-off displacer"``; ``parameters`` holds the cut angle used, the walk-off
         angle and the offset at the design wavelength.
     """
-    crystal = resolve_material(material)
+    crystal = resolve_crystal(material)
     length = check_positive("length_mm", length_mm)
     lam = check_positive("design_wavelength_um", design_wavelength_um)
     if cut_angle_deg is None:

@@ -20,8 +20,9 @@ import numpy as np
 from ..optics import SequentialSystem, Surface
 from ..optics.eigenmodes import normal_components
 from ..optics.system import RectangularAperture
-from .base import check_angle, trace_from_front
-from .stack import interface_layer, resolve_material
+from .base import (check_angle, check_angles, check_finite, check_positive, check_prism,
+                   trace_from_front)
+from .stack import make_layer, resolve_crystal, resolve_material
 from .wollaston import wedge_pair
 
 __all__ = ["glan_air_spaced", "glan_cemented", "glan_cut_angle_limits", "glan_transmitted_mode",
@@ -37,7 +38,7 @@ def _check_axis(axis):
 def _glan(kind, material, cut_angle_deg, layer, axis, width_mm, height_mm, edge_thickness_mm,
           design_wavelength_um, coated, params):
     _check_axis(axis)
-    check_angle("cut_angle_deg", cut_angle_deg, 0.0, 80.0)
+    cut_angle_deg = check_angle("cut_angle_deg", cut_angle_deg, 0.0, 80.0)
     prism = wedge_pair(material, cut_angle_deg, None, width_mm, height_mm, edge_thickness_mm,
                        axis, axis, design_wavelength_um, kind, interface_layer=layer,
                        coated=coated, parameters=params)
@@ -79,6 +80,8 @@ def glan_air_spaced(material="calcite", cut_angle_deg=38.5, gap_mm=0.01, axis="x
     edge_thickness_mm : float
         Thickness of each wedge at its thin edge (mm).
     design_wavelength_um : float
+        Design wavelength (µm): the polarising action is checked there (a warning if the cut
+        does not polarise); also the coatings' and the analyses' default wavelength.
     coated : bool
         Ideal single-layer antireflection coatings on the entrance and exit faces.
 
@@ -88,7 +91,7 @@ def glan_air_spaced(material="calcite", cut_angle_deg=38.5, gap_mm=0.01, axis="x
         ``kind = "glan air-spaced"``; ``parameters["transmitted_mode"]`` is "o" or "e" (or
         "both"/"none" with a warning when the cut does not polarise at the design wavelength).
     """
-    layer = interface_layer(gap_material, gap_mm)
+    layer = make_layer(gap_material, gap_mm, "gap_material", "gap_mm: layer thickness_mm")
     params = dict(material=getattr(resolve_material(material), "name", str(material)),
                   cut_angle_deg=cut_angle_deg, gap_mm=gap_mm, axis=axis,
                   gap_material=getattr(layer.material, "name", str(gap_material)),
@@ -124,7 +127,8 @@ def glan_cemented(material="calcite", cut_angle_deg=72.0, cement="optical_cement
     Prism
         ``kind = "glan cemented"``.
     """
-    layer = interface_layer(cement, cement_thickness_mm)
+    layer = make_layer(cement, cement_thickness_mm, "cement",
+                       "cement_thickness_mm: layer thickness_mm")
     params = dict(material=getattr(resolve_material(material), "name", str(material)),
                   cut_angle_deg=cut_angle_deg, cement=getattr(layer.material, "name", str(cement)),
                   cement_thickness_mm=cement_thickness_mm, axis=axis, width_mm=width_mm,
@@ -166,17 +170,24 @@ def glan_cut_angle_limits(material, wavelength_um, gap_index, axis="x", in_plane
         (gap index ≥ its index).
     """
     _check_axis(axis)
-    crystal = resolve_material(material)
+    crystal = resolve_crystal(material)
+    # The crystal checks the wavelengths once (type, sign, range warning) for everything below.
+    n_o, n_e = crystal.indices(wavelength_um)
     lam = np.asarray(wavelength_um, dtype=float)
     if isinstance(gap_index, str) or hasattr(gap_index, "indices"):
         n_gap = resolve_material(gap_index, "gap_index").indices(lam)[0]
     else:
-        n_gap = np.asarray(gap_index, dtype=float)
+        try:
+            n_gap = np.asarray(gap_index, dtype=float)
+        except (TypeError, ValueError):
+            raise ValueError(f"gap_index must be a positive index, a material name or a "
+                             f"material, got {gap_index!r}") from None
         if np.any(~np.isfinite(n_gap)) or np.any(n_gap <= 0):
             raise ValueError(f"gap_index must be positive, got {gap_index!r}")
-    n_o, n_e = crystal.indices(lam)
     n_s = resolve_material(surround, "surround").indices(lam)[0]
-    alpha = np.deg2rad(np.asarray(in_plane_deg, dtype=float))
+    alpha = np.deg2rad(check_angles("in_plane_deg", in_plane_deg))
+    if np.any(np.abs(alpha) >= 0.5 * np.pi):
+        raise ValueError(f"in_plane_deg must lie between -90 and 90 degrees, got {in_plane_deg!r}")
     n_o, n_e, n_s, n_gap, alpha = np.broadcast_arrays(n_o, n_e, n_s, n_gap, alpha)
     kx = n_s * np.sin(alpha)
     k_t = np.stack([kx, np.zeros_like(kx), np.zeros_like(kx)], axis=-1)
@@ -206,8 +217,19 @@ def glan_transmitted_mode(prism, wavelength_um=None, in_plane_deg=0.0):
         Default: the design wavelength.
     in_plane_deg : float
         Input angle in the principal section (degrees).
+
+    Returns
+    -------
+    str
+        "o", "e", "both" or "none".
     """
-    lam = prism.design_wavelength_um if wavelength_um is None else float(wavelength_um)
+    check_prism(prism)
+    lam = prism.design_wavelength_um if wavelength_um is None else check_positive(
+        "wavelength_um", wavelength_um)
+    in_plane_deg = check_finite("in_plane_deg", in_plane_deg, "a finite angle in degrees")
+    if len(prism.boundaries) != 3:
+        raise ValueError(f"glan_transmitted_mode needs a two-wedge prism, got a {prism.kind!r} "
+                         f"with {len(prism.pieces)} pieces")
     layer = prism.boundaries[1].layer
     if layer is None:
         raise ValueError(f"glan_transmitted_mode needs a prism with a gap or cement layer at its "
@@ -270,9 +292,11 @@ def rejected_beam_system(prism, wavelength_um=None, in_plane_deg=0.0, out_of_pla
         ``notes`` holds ``exit_face`` (e.g. "side face -x") and ``rejected_beam`` (the label
         of the rejected beam in a trace of this system, e.g. "oo").
     """
+    check_prism(prism)
     if len(prism.pieces) != 2:
         raise ValueError(f"rejected_beam_system needs a two-wedge prism, got {len(prism.pieces)} pieces")
-    lam = prism.design_wavelength_um if wavelength_um is None else float(wavelength_um)
+    lam = prism.design_wavelength_um if wavelength_um is None else check_positive(
+        "wavelength_um", wavelength_um)
     full = prism.system()
     media = full.media
     mirror = replace(full.surfaces[1], reflect_from=media[2], label="gap (reflecting)")
@@ -356,7 +380,12 @@ def trace_rejected(prism, wavelength_um=None, in_plane_deg=0.0, out_of_plane_deg
     -------
     RejectedBeam
     """
+    check_prism(prism)
     lam = prism.design_wavelength_um if wavelength_um is None else wavelength_um
+    if np.size(lam) == 0 or np.size(in_plane_deg) == 0 or np.size(out_of_plane_deg) == 0:
+        raise ValueError(f"trace_rejected needs at least one wavelength and input angle, got "
+                         f"wavelength_um = {lam!r}, in_plane_deg = {in_plane_deg!r}, "
+                         f"out_of_plane_deg = {out_of_plane_deg!r}")
     system = rejected_beam_system(prism, float(np.ravel(lam)[0]), float(np.ravel(in_plane_deg)[0]),
                                   float(np.ravel(out_of_plane_deg)[0]))
     # Keep zero-power branches: a rejected beam that is totally reflected again at the face

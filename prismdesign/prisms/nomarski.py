@@ -13,7 +13,7 @@ import numpy as np
 from scipy.optimize import brentq
 
 from ..optics.vectors import closest_approach
-from .base import check_angle, check_positive
+from .base import check_angle, check_finite, check_positive, check_prism
 from .stack import resolve_material
 from .wollaston import wedge_pair
 
@@ -78,10 +78,16 @@ def localisation_plane(prism, wavelength_um=None, in_plane_deg=0.0, out_of_plane
     LocalisationPlane
         NaN position and tilt when the exit rays are parallel (plane at infinity).
     """
+    check_prism(prism)
     lam = prism.design_wavelength_um if wavelength_um is None else check_positive(
         "wavelength_um", wavelength_um)
-    if int(points) != points or points < 2:
+    try:
+        whole = not isinstance(points, (bool, np.bool_, str, bytes)) and int(points) == points
+    except (TypeError, ValueError, OverflowError):
+        whole = False
+    if not whole or points < 2:
         raise ValueError(f"points must be an integer >= 2, got {points!r}")
+    extent = check_finite("extent", extent, "a fraction in (0, 1]")
     if not (0 < extent <= 1):
         raise ValueError(f"extent must lie in (0, 1], got {extent!r}")
     x = np.concatenate([[0.0], np.linspace(-1.0, 1.0, int(points)) * extent * 0.5 * prism.width_mm])
@@ -166,13 +172,8 @@ def nomarski(material="quartz", wedge_angle_deg=5.0, *, localisation_distance_mm
     if axis_tilt_deg is not None:
         tilt = check_angle("axis_tilt_deg", axis_tilt_deg, -90.0, 90.0)
     else:
-        try:
-            target = float(localisation_distance_mm)
-        except (TypeError, ValueError):
-            raise ValueError(f"localisation_distance_mm must be a number, got "
-                             f"{localisation_distance_mm!r}") from None
-        if not np.isfinite(target):
-            raise ValueError(f"localisation_distance_mm must be finite, got {localisation_distance_mm!r}")
+        target = check_finite("localisation_distance_mm", localisation_distance_mm,
+                              "a finite distance in mm")
         tilt = _solve_tilt(build, target)
     prism = build(tilt)
     plane = localisation_plane(prism)

@@ -45,6 +45,7 @@ def rochon(material="calcite", wedge_angle_deg=20.0, *, width_mm=10.0, height_mm
     edge_thickness_mm : float
         Thickness of each wedge at its thin edge (mm).
     design_wavelength_um : float
+        Design wavelength (µm) of the coatings and default wavelength of the analyses.
     interface_layer : ThinLayer, optional
         Cement film or air gap at the interface (see :func:`interface_layer`).
     coated : bool

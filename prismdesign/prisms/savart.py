@@ -10,8 +10,8 @@ walk-off formula in the tests).
 """
 import numpy as np
 
-from .base import Piece, check_angle, check_positive
-from .stack import resolve_material, stacked_prism
+from .base import Piece, check_angle, check_finite, check_positive
+from .stack import resolve_crystal, stacked_prism
 
 __all__ = ["savart_plate"]
 
@@ -35,6 +35,7 @@ def savart_plate(material="quartz", plate_thickness_mm=5.0, axis_angle_deg=45.0,
     width_mm, height_mm : float
         Clear aperture along x and y (mm).
     design_wavelength_um : float
+        Design wavelength (µm) of the coatings and default wavelength of the analyses.
     interface_layer : ThinLayer, optional
         Cement film between the plates (see :func:`interface_layer`); default contacted.
     coated : bool
@@ -45,15 +46,10 @@ def savart_plate(material="quartz", plate_thickness_mm=5.0, axis_angle_deg=45.0,
     Prism
         ``kind = "savart plate"``.
     """
-    crystal = resolve_material(material)
+    crystal = resolve_crystal(material)
     thickness = check_positive("plate_thickness_mm", plate_thickness_mm)
     theta = np.deg2rad(check_angle("axis_angle_deg", axis_angle_deg, 0.0, 90.0))
-    try:
-        phi = np.deg2rad(float(azimuth_deg))
-    except (TypeError, ValueError):
-        raise ValueError(f"azimuth_deg must be an angle in degrees, got {azimuth_deg!r}") from None
-    if not np.isfinite(phi):
-        raise ValueError(f"azimuth_deg must be finite, got {azimuth_deg!r}")
+    phi = np.deg2rad(check_finite("azimuth_deg", azimuth_deg, "a finite angle in degrees"))
     axes = [(np.sin(theta) * np.cos(a), np.sin(theta) * np.sin(a), np.cos(theta))
             for a in (phi, phi + 0.5 * np.pi)]
     pieces = [Piece(crystal, axes[0], label="first plate"),

@@ -13,11 +13,13 @@ Optic axes are global unit vectors; they may be given as named directions ("x", 
 import numpy as np
 
 from ..materials import material as library_material
+from ..materials import materials as library_names
 from ..optics import FixedIndices, ThinLayer, optic_axis_from_angles
 from ..optics.vectors import as_unit_vectors
-from .base import Boundary, Prism, check_positive
+from .base import Boundary, Prism, check_angle, check_flag, check_positive
 
-__all__ = ["resolve_material", "resolve_axis", "interface_layer", "stacked_prism"]
+__all__ = ["resolve_material", "resolve_crystal", "resolve_axis", "check_layer",
+           "interface_layer", "make_layer", "stacked_prism"]
 
 _NAMED_AXES = {"x": (1.0, 0.0, 0.0), "y": (0.0, 1.0, 0.0), "z": (0.0, 0.0, 1.0)}
 
@@ -28,6 +30,30 @@ def resolve_material(value, name="material"):
         return library_material(value)
     if not hasattr(value, "indices"):
         raise ValueError(f"{name} must be a material name or a material object, got {value!r}")
+    return value
+
+
+def resolve_crystal(value, name="material"):
+    """A uniaxial crystal from a library name or a material object; isotropic media refused.
+
+    Prisms that work by birefringence (Wollaston, Glan, Savart, displacers, ...) are built of
+    uniaxial crystals only: an isotropic glass would silently give a prism that does not split.
+    """
+    crystal = resolve_material(value, name)
+    if getattr(crystal, "kind", None) != "uniaxial":
+        uniaxial = [n for n in library_names() if library_material(n).kind == "uniaxial"]
+        label, kind = getattr(crystal, "name", crystal), getattr(crystal, "kind", "?")
+        raise ValueError(f"{name} must be a uniaxial crystal, got {label!r} ({kind}); "
+                         f"uniaxial in the library: {', '.join(uniaxial)}")
+    return crystal
+
+
+def check_layer(value, name="interface_layer"):
+    """None or a :class:`~prismdesign.optics.ThinLayer`; anything else fails in one line."""
+    if value is not None and not isinstance(value, ThinLayer):
+        raise ValueError(f"{name} must be None (optically contacted) or a ThinLayer made with "
+                         f"prismdesign.prisms.interface_layer(material, thickness_mm), got "
+                         f"{value!r}")
     return value
 
 
@@ -73,19 +99,29 @@ def interface_layer(material="optical_cement", thickness_mm=0.01):
     -------
     ThinLayer
     """
-    if isinstance(material, (int, float)) and not isinstance(material, bool):
-        medium = FixedIndices(float(check_positive("layer index", material)), name="layer")
+    return make_layer(material, thickness_mm)
+
+
+def make_layer(material, thickness_mm, material_name="layer material",
+               thickness_name="layer thickness_mm"):
+    """:func:`interface_layer`, with the caller's own parameter names in its error messages."""
+    if isinstance(material, (int, float, np.floating, np.integer)) and not isinstance(material,
+                                                                                     bool):
+        medium = FixedIndices(check_positive(f"{material_name} (an index)", material),
+                              name="layer")
     else:
-        medium = resolve_material(material, "layer material")
+        medium = resolve_material(material, material_name)
     if getattr(medium, "kind", "isotropic") != "isotropic":
-        raise ValueError(f"layer material must be isotropic, got {getattr(medium, 'name', medium)!r} "
-                         f"({medium.kind})")
+        raise ValueError(f"{material_name} must be isotropic, got "
+                         f"{getattr(medium, 'name', medium)!r} ({medium.kind})")
     try:
+        if isinstance(thickness_mm, (str, bytes, bool, np.bool_)):
+            raise TypeError
         t = float(thickness_mm)
     except (TypeError, ValueError):
-        raise ValueError(f"layer thickness_mm must be a number >= 0, got {thickness_mm!r}") from None
+        raise ValueError(f"{thickness_name} must be a number >= 0, got {thickness_mm!r}") from None
     if not (np.isfinite(t) and t >= 0):
-        raise ValueError(f"layer thickness_mm must be a number >= 0, got {thickness_mm!r}")
+        raise ValueError(f"{thickness_name} must be a number >= 0, got {thickness_mm!r}")
     return ThinLayer(medium, t)
 
 
@@ -106,6 +142,7 @@ def stacked_prism(kind, pieces, exit_face_deg, thickness_mm, *, width_mm, height
     width_mm, height_mm : float
         Clear aperture along x and y (mm).
     design_wavelength_um : float
+        Design wavelength (µm) of the coatings and default wavelength of the analyses.
     layers : sequence of (ThinLayer or None), optional
         One per internal interface (``len(pieces) − 1``).
     coated : bool
@@ -122,6 +159,7 @@ def stacked_prism(kind, pieces, exit_face_deg, thickness_mm, *, width_mm, height
     width = check_positive("width_mm", width_mm)
     height = check_positive("height_mm", height_mm)
     design = check_positive("design_wavelength_um", design_wavelength_um)
+    coated = check_flag("coated", coated)
     count = len(pieces)
     if count == 0:
         raise ValueError("a stack needs at least one piece, got none")
@@ -134,17 +172,12 @@ def stacked_prism(kind, pieces, exit_face_deg, thickness_mm, *, width_mm, height
         raise ValueError(f"a stack of {count} pieces has {count - 1} internal interfaces, got "
                          f"{len(layers)} interface layers")
     for i, layer in enumerate(layers):
-        if layer is not None and not isinstance(layer, ThinLayer):
-            raise ValueError(f"interface layer {i} must be None or a ThinLayer (see "
-                             f"interface_layer()), got {layer!r}")
+        check_layer(layer, f"interface layer {i}")
     half = 0.5 * width
     boundaries = [Boundary((0.0, 0.0, 0.0), (0.0, 0.0, 1.0), coated=coated, label="entrance face")]
     previous_tan, z_centre = 0.0, 0.0
     for i, (angle, thick) in enumerate(zip(exit_face_deg, thickness_mm)):
-        alpha = np.deg2rad(float(angle))
-        if not (np.isfinite(alpha) and abs(alpha) < np.deg2rad(80.0)):
-            raise ValueError(f"exit face angle of piece {i} must lie between -80 and 80 degrees, "
-                             f"got {angle!r}")
+        alpha = np.deg2rad(check_angle(f"exit face angle of piece {i}", angle, -80.0, 80.0))
         thick = check_positive(f"thickness_mm of piece {i}", thick)
         # A face through (0, 0, z_c) with normal (sin α, 0, cos α) sits at z = z_c − x tan α;
         # the piece is thinnest where its two faces converge, at one edge of the aperture.

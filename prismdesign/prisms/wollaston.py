@@ -1,19 +1,14 @@
 """Wollaston prism: two wedges of one crystal with crossed optic axes, both beams deviated."""
 import numpy as np
 
-from ..materials import material as library_material
-from .base import Boundary, Piece, Prism, check_angle, check_positive
+from .base import Boundary, Piece, Prism, check_angle, check_flag, check_positive
+from .stack import check_layer, resolve_crystal, resolve_material
 
 __all__ = ["wollaston", "AXIS_DIRECTIONS"]
 
 #: Named optic-axis directions for pieces whose axis lies in the entrance face:
 #: "x" in the principal section, "y" perpendicular to it.
 AXIS_DIRECTIONS = {"x": (1.0, 0.0, 0.0), "y": (0.0, 1.0, 0.0), "z": (0.0, 0.0, 1.0)}
-
-
-def resolve_material(value):
-    """A library material from a name, or the object itself."""
-    return library_material(value) if isinstance(value, str) else value
 
 
 def wedge_pair(material, wedge_angle_deg, exit_wedge_angle_deg, width_mm, height_mm,
@@ -25,7 +20,10 @@ def wedge_pair(material, wedge_angle_deg, exit_wedge_angle_deg, width_mm, height
     face is tilted by θ₁ − θ₂ so that the second wedge has angle θ₂. Each wedge is
     `edge_thickness_mm` thick at its thin edge.
     """
-    material = resolve_material(material)
+    material = resolve_crystal(material)
+    design_wavelength_um = check_positive("design_wavelength_um", design_wavelength_um)
+    check_layer(interface_layer)
+    coated = check_flag("coated", coated)
     theta1 = np.deg2rad(check_angle("wedge_angle_deg", wedge_angle_deg, 0.0, 80.0))
     theta2 = theta1 if exit_wedge_angle_deg is None else np.deg2rad(
         check_angle("exit_wedge_angle_deg", exit_wedge_angle_deg, 0.0, 80.0))
@@ -79,6 +77,7 @@ def wollaston(material="calcite", wedge_angle_deg=15.0, *, width_mm=10.0, height
         Optic axis of the first wedge: in the principal section ("x") or across it ("y").
         The second wedge takes the other.
     design_wavelength_um : float
+        Design wavelength (µm) of the coatings and default wavelength of the analyses.
     interface_layer : ThinLayer, optional
         Cement film (or thin air gap) at the interface; default optically contacted.
     coated : bool
