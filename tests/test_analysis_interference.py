@@ -63,21 +63,32 @@ def test_wollaston_localisation_tilt_tends_to_paraxial():
 
 
 def _wollaston_opd_exact(prism, wavelength_um, x):
-    """OPD eo − oe on the exit face, Snell's law applied at the interface (Born & Wolf 1999,
-    §1.5.2). In-plane rays at normal incidence: the first wedge (axis x ⟂ z) has indices n_e
-    (eo) and n_o (oe); in the second wedge (axis y ⟂ every in-plane wave normal) they swap;
-    there is no walk-off, so the optical path is index × length. With interface incidence θ,
-    n₁ sin θ = n₂ sin θ₂ and the ray tilt γ = θ − θ₂:
-    OPD = (n_e − n_o) t₁ + t₂ (n_o / cos γ_a − n_e / cos γ_b), t₁ = z_i(x), t₂ = z_e − z_i(x).
+    """OPD eo − oe of the two exit waves at the midpoint of their landing points on the exit
+    face, from Snell's law (Born & Wolf 1999, §1.5.2). In-plane rays at normal incidence: the
+    first wedge (axis x ⟂ z) has indices n_e (eo) and n_o (oe); in the second wedge (axis y ⟂
+    every in-plane wave normal) they swap, with no walk-off. At the interface (normal
+    (sin θ, 0, cos θ)) the tangential wave vector is kept, so in the second wedge
+    k_x = sin θ (√(n₂² − n₁² sin²θ) − n₁ cos θ), k_z = √(n₂² − k_x²), and k_x is kept again at
+    the exit face. Each ray's optical path is L = n₁ t₁ + n₂² t₂ / k_z (t₁ = z_i(x),
+    t₂ = z_e − z_i), it lands at x + t₂ k_x/k_z, and each exit plane wave carried to the
+    midpoint adds k_x times half the separation: OPD = L_a − L_b + (k_xa + k_xb)(x_b − x_a)/2.
     """
     n_o, n_e, _ = _indices(prism, wavelength_um)
     normal = prism.boundaries[1].normal
     theta = np.arccos(normal[2])
     z_i = prism.boundaries[1].point_mm[2] - x * normal[0] / normal[2]
-    z_e = prism.exit_z_mm
-    gamma_a = theta - np.arcsin(n_e * np.sin(theta) / n_o)
-    gamma_b = theta - np.arcsin(n_o * np.sin(theta) / n_e)
-    return (n_e - n_o) * z_i + (z_e - z_i) * (n_o / np.cos(gamma_a) - n_e / np.cos(gamma_b))
+    t2 = prism.exit_z_mm - z_i
+
+    def second_wedge(n1, n2):
+        kx = np.sin(theta) * (np.sqrt(n2 ** 2 - (n1 * np.sin(theta)) ** 2) - n1 * np.cos(theta))
+        return kx, np.sqrt(n2 ** 2 - kx ** 2)
+
+    kxa, kza = second_wedge(n_e, n_o)
+    kxb, kzb = second_wedge(n_o, n_e)
+    path_a = n_e * z_i + n_o ** 2 * t2 / kza
+    path_b = n_o * z_i + n_e ** 2 * t2 / kzb
+    xa, xb = x + t2 * kxa / kza, x + t2 * kxb / kzb
+    return path_a - path_b + 0.5 * (kxa + kxb) * (xb - xa)
 
 
 @pytest.mark.parametrize("theta", [5.0, 20.0])

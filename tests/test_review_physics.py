@@ -144,10 +144,6 @@ def test_plate_stack_retardance_at_oblique_incidence(polar1, azim1, polar2, azim
     np.testing.assert_allclose(loc.opd_mm, expected, rtol=0, atol=1e-11)
 
 
-@pytest.mark.xfail(strict=True, reason="bug: optical_path_difference subtracts the paths of the "
-                   "two rays at two different points of the plane (they are sheared), so at "
-                   "oblique incidence it misses k·shear and is not the phase difference of the "
-                   "two waves; 0 for a Savart plate at any angle")
 def test_optical_path_difference_of_a_tilted_plate_is_its_retardance():
     """OPD of a quartz plate (axis along x) at 10° in-plane incidence.
 
@@ -168,9 +164,6 @@ def test_optical_path_difference_of_a_tilted_plate_is_its_retardance():
                                    in_plane_deg=alpha) == pytest.approx(expected, abs=1e-9)
 
 
-@pytest.mark.xfail(strict=True, reason="bug: optical_path_difference of a Savart plate is 0 at "
-                   "every incidence angle, while the two sheared waves differ in phase by "
-                   "about shear·sin(i) (the Savart polariscope's fringes)")
 def test_optical_path_difference_of_a_savart_plate_at_oblique_incidence():
     """Savart plate (quartz, 2 × 5 mm, axes at 45°), 3° in the shear direction.
 
@@ -487,9 +480,6 @@ def test_glan_rejected_beam_direction_and_power():
     assert rejected.flags == 0
 
 
-@pytest.mark.xfail(strict=True, reason="bug: rejected_beam_system uses the side faces of the "
-                   "unrotated prism, so a Glan prism turned about z sends its rejected beam out "
-                   "of a face that is not there (wrong exit point, direction and power)")
 def test_rejected_beam_of_a_turned_glan_prism_turns_with_it():
     """Turning the prism (and nothing else about the physics) by ψ about z turns the rejected
     beam's exit point and direction by ψ and keeps its power, for unpolarised input.
@@ -581,9 +571,6 @@ def test_energy_bookkeeping_through_whole_prisms(case, alpha, beta, lam, jones):
         assert np.isfinite(value) and value >= 0
 
 
-@pytest.mark.xfail(strict=True, reason="bug: transmission() says the norm of the input Jones "
-                   "vector does not matter, but the tracer prunes branches below an absolute "
-                   "power of 1e-12, so a weak input (|J|² = 2e-14) loses every beam")
 def test_transmission_does_not_depend_on_the_input_norm():
     """Powers are fractions of the input (transmission() docstring), and the optics is linear:
     scaling the Jones vector must not change them. Measured for a calcite Wollaston: total
@@ -599,9 +586,6 @@ def test_transmission_does_not_depend_on_the_input_norm():
 # Rotated prisms and the localisation analysis
 # ---------------------------------------------------------------------------------------------
 
-@pytest.mark.xfail(strict=True, reason="bug: fringe_localisation.split_deg uses arccos of the "
-                   "dot product, which reports 8.5e-7 degrees for parallel exit waves "
-                   "(while at_infinity says they are parallel)")
 def test_localisation_split_of_parallel_waves_is_zero():
     """A plane-parallel plate at oblique incidence: both exit waves have k_t = n_air sin α and
     the same |k| in air, so they are exactly parallel (Born & Wolf §1.5.2). split() (atan2)
@@ -613,9 +597,6 @@ def test_localisation_split_of_parallel_waves_is_zero():
     assert np.all(np.abs(loc.split_deg) < 1e-12)
 
 
-@pytest.mark.xfail(strict=True, reason="bug: Prism.outline/exit_z_mm/length_mm use the section "
-                   "y = 0 with the width along x, ignoring rotation_deg; a turned prism with a "
-                   "tilted exit face reports an exit plane inside the prism")
 def test_exit_z_of_a_turned_prism_is_the_exit_face_maximum():
     """Largest z of the exit face over the clear aperture is invariant under turning about z.
 
@@ -636,9 +617,6 @@ def test_exit_z_of_a_turned_prism_is_the_exit_face_maximum():
     assert turned.exit_z_mm == pytest.approx(z_max, abs=1e-9)
 
 
-@pytest.mark.xfail(strict=True, reason="bug: small_angle_estimates takes tan θ from the x "
-                   "component of the interface normal only; a Wollaston turned by 90° gets a "
-                   "small-angle split of 0")
 def test_small_angle_estimates_of_a_turned_wollaston():
     """The thin-prism split 2|n_o − n_e| tan θ (common practice, no source) does not depend on
     how the prism is turned about z; the exact split does not either (checked)."""

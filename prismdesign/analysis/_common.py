@@ -1,15 +1,154 @@
-"""Helpers shared by the analysis modules: input checks, beam ranking, pair handling."""
+"""Helpers shared by the analysis modules: input checks, beam ranking, pair handling.
+
+The checks turn bad input into one-line errors that name the parameter, show the value as plain
+numbers and say what is allowed, before numpy can turn it into a raw exception or a silent NaN.
+Scalar checks live with the builders (:mod:`prismdesign.prisms.base`); the checks here handle
+the arrays the analyses broadcast over.
+"""
 import numpy as np
 
 from ..optics import Beam
+from ..prisms.base import check_finite
 
 __all__ = ["as_output", "check_polarisation", "strip_pair", "rank_beams", "check_main_labels",
-           "MAIN_BEAM_SHARE", "input_direction_deg"]
+           "MAIN_BEAM_SHARE", "input_direction_deg", "shown", "plain", "check_numbers",
+           "check_wavelengths", "check_offsets", "check_shapes", "check_non_negative",
+           "check_ray_inputs"]
+
+#: Arrays up to this size are shown in full in error messages; larger ones by shape.
+_SHOWN_SIZE = 8
 
 
 def as_output(value):
     """Scalar in, scalar out: a 0-d array becomes a numpy scalar, other arrays stay arrays."""
     return np.asarray(value)[()]
+
+
+def plain(value):
+    """A numpy scalar or 0-d array as the Python number it holds; anything else unchanged.
+
+    Lets the scalar checks of :mod:`prismdesign.prisms.base` show ``-1.0`` rather than
+    ``np.float64(-1.0)`` (and still refuse a numpy boolean, which becomes a Python bool).
+    """
+    if isinstance(value, np.generic) or (isinstance(value, np.ndarray) and value.ndim == 0):
+        return value.item()
+    return value
+
+
+def shown(value):
+    """Plain text of a value for an error message: numbers as numbers, small arrays as lists."""
+    value = plain(value)
+    if isinstance(value, (list, tuple, np.ndarray)):
+        try:
+            array = np.asarray(value)
+        except (TypeError, ValueError):
+            array = None
+        if array is not None and array.dtype.kind in "biufc":
+            if array.size > _SHOWN_SIZE:
+                return f"an array of shape {array.shape}"
+            value = array.tolist()
+    text = repr(value)
+    return text if len(text) <= 80 else text[:77] + "..."
+
+
+def check_numbers(name, value, allowed, valid=None):
+    """`value` as a float array (any shape, not empty), or a one-line ValueError.
+
+    Text (even numeric text), booleans, complex numbers, ragged nested lists and non-finite
+    entries are refused; `valid`, a vectorised test on the float array, adds a range.
+
+    Parameters
+    ----------
+    name : str
+        Parameter name for the message.
+    value : object
+    allowed : str
+        What is allowed, e.g. "positive wavelengths in µm".
+    valid : callable, optional
+        ``valid(array) -> bool array``; entries where it is False are refused.
+
+    Returns
+    -------
+    ndarray of float
+    """
+    def fail(detail=""):
+        raise ValueError(f"{name} must be {allowed}, got {detail}{shown(value)}")
+
+    if isinstance(value, (str, bytes)):
+        fail("the text ")
+    try:
+        array = np.asarray(value)
+    except (TypeError, ValueError):
+        # numpy refuses nested lists of unequal lengths ("inhomogeneous shape").
+        fail("a ragged nested list ")
+    kind = array.dtype.kind
+    if kind == "O":
+        try:
+            array = array.astype(float)
+        except (TypeError, ValueError):
+            fail()
+    elif kind in "US":
+        fail("text ")
+    elif kind == "b":
+        fail("the boolean " if array.ndim == 0 else "booleans ")
+    elif kind == "c":
+        fail("complex ")
+    elif kind not in "iuf":
+        fail()
+    array = array.astype(float)
+    if array.size == 0:
+        fail("an empty array ")
+    if not np.all(np.isfinite(array)) or (valid is not None and not np.all(valid(array))):
+        fail()
+    return array
+
+
+def check_wavelengths(value, name="wavelength_um"):
+    """Vacuum wavelengths in µm as a float array: real, finite, positive, not empty."""
+    return check_numbers(name, value, "positive, finite vacuum wavelengths in µm",
+                         lambda a: a > 0)
+
+
+def check_offsets(value, name="offset_mm"):
+    """Entry points (x, y) in mm as a float array of shape (..., 2)."""
+    array = check_numbers(name, value, "(x, y) entry points in mm, finite numbers")
+    if array.ndim == 0 or array.shape[-1] != 2:
+        raise ValueError(f"{name} must be (x, y) entry points in mm, with 2 numbers on the "
+                         f"last axis, got shape {array.shape}")
+    return array
+
+
+def check_non_negative(name, value, what="a finite number >= 0"):
+    """float(value) for a scalar that must be finite and >= 0, or a one-line ValueError."""
+    v = check_finite(name, plain(value), what)
+    if v < 0:
+        raise ValueError(f"{name} must be {what}, got {shown(value)}")
+    return v
+
+
+def check_shapes(*named):
+    """Broadcast shape of named inputs, or a one-line error naming each input and its shape.
+
+    Parameters
+    ----------
+    *named : (str, tuple) or (str, tuple, int)
+        Parameter name, its shape and, optionally, how many trailing axes are its own (a vector
+        axis such as the (x, y) of `offset_mm`) and take no part in the broadcast.
+
+    Returns
+    -------
+    tuple
+        The broadcast shape (without the vectors' own axes).
+    """
+    items = [(item[0], tuple(item[1]), item[2] if len(item) > 2 else 0) for item in named]
+    try:
+        return np.broadcast_shapes(*(shape[:len(shape) - core] for _, shape, core in items))
+    except ValueError:
+        listing = ", ".join(f"{name} {shape}" + (" (last axis not broadcast)" if core else "")
+                            for name, shape, core in items)
+        raise ValueError(f"{', '.join(name for name, _, _ in items)} must broadcast together "
+                         f"(numpy rules: from the last axis on, equal lengths or 1), got shapes "
+                         f"{listing}") from None
 
 
 def check_polarisation(polarisation):
@@ -31,13 +170,20 @@ def check_polarisation(polarisation):
             raise ValueError(f"polarisation must be a Jones vector (2 complex numbers) or "
                              f"'unpolarised', got {polarisation!r}")
         return "unpolarised", 1.0
-    jones = np.asarray(polarisation, dtype=complex)
+    allowed = "a Jones vector (2 complex numbers on the last axis) or 'unpolarised'"
+    try:
+        raw = np.asarray(polarisation)
+        if raw.dtype.kind not in "iufcO":
+            raise TypeError
+        jones = raw.astype(complex)
+    except (TypeError, ValueError):
+        raise ValueError(f"polarisation must be {allowed}, got {shown(polarisation)}") from None
     if jones.ndim == 0 or jones.shape[-1] != 2:
-        raise ValueError(f"polarisation must be Jones vectors (last axis 2) or 'unpolarised', "
-                         f"got shape {jones.shape}")
+        raise ValueError(f"polarisation must be {allowed}, got shape {jones.shape}")
     power = (np.abs(jones) ** 2).sum(axis=-1)
     if np.any(power == 0) or not np.all(np.isfinite(power)):
-        raise ValueError("polarisation Jones vectors must be non-zero and finite")
+        raise ValueError(f"polarisation must be {allowed}, non-zero and finite, got "
+                         f"{shown(polarisation)}")
     return jones, power
 
 
@@ -90,7 +236,13 @@ def rank_beams(powers, count=None, share=MAIN_BEAM_SHARE):
 
 def check_main_labels(main_labels, available, minimum=1):
     """Validate user-chosen main beams against the traced labels; returns a tuple."""
-    labels = (main_labels,) if isinstance(main_labels, str) else tuple(main_labels)
+    if isinstance(main_labels, str):
+        labels = (main_labels,)
+    else:
+        try:
+            labels = tuple(main_labels)
+        except TypeError:
+            labels = (main_labels,)
     unknown = [label for label in labels if label not in available]
     if unknown or len(labels) < minimum:
         raise ValueError(f"main_labels must name at least {minimum} of the traced beams "
@@ -99,13 +251,33 @@ def check_main_labels(main_labels, available, minimum=1):
 
 
 def input_direction_deg(in_plane_deg, out_of_plane_deg):
-    """Input angles as float arrays (degrees), checked for finiteness and range."""
-    a = np.asarray(in_plane_deg, dtype=float)
-    b = np.asarray(out_of_plane_deg, dtype=float)
-    if not (np.all(np.isfinite(a)) and np.all(np.abs(a) < 90.0)):
-        raise ValueError(f"in_plane_deg must be finite and between -90 and 90 degrees, "
-                         f"got {a.tolist() if a.size < 6 else 'out-of-range entries'}")
-    if not (np.all(np.isfinite(b)) and np.all(np.abs(b) < 90.0)):
-        raise ValueError(f"out_of_plane_deg must be finite and between -90 and 90 degrees, "
-                         f"got {b.tolist() if b.size < 6 else 'out-of-range entries'}")
-    return a, b
+    """Input angles as float arrays (degrees): real, finite and strictly between −90 and 90."""
+    def inside(a):
+        return np.abs(a) < 90.0
+
+    allowed = "finite angles in degrees between -90 and 90 (exclusive)"
+    return (check_numbers("in_plane_deg", in_plane_deg, allowed, inside),
+            check_numbers("out_of_plane_deg", out_of_plane_deg, allowed, inside))
+
+
+def check_ray_inputs(wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm, *extra):
+    """Check the inputs every trace-based analysis takes and that they broadcast together.
+
+    Parameters
+    ----------
+    wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm
+        As given by the user.
+    *extra : (str, tuple)
+        Further named shapes that must broadcast with the rays (e.g. a distance).
+
+    Returns
+    -------
+    wavelength, in_plane, out_of_plane, offset : ndarray of float
+    """
+    wavelength = check_wavelengths(wavelength_um)
+    in_plane, out_of_plane = input_direction_deg(in_plane_deg, out_of_plane_deg)
+    offset = check_offsets(offset_mm)
+    check_shapes(("wavelength_um", wavelength.shape), ("in_plane_deg", in_plane.shape),
+                 ("out_of_plane_deg", out_of_plane.shape),
+                 ("offset_mm", offset.shape, 1), *extra)
+    return wavelength, in_plane, out_of_plane, offset

@@ -11,7 +11,9 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..optics.vectors import cross, dot, norm
-from ._common import as_output, check_main_labels, input_direction_deg, rank_beams, strip_pair
+from ..prisms.base import check_prism
+from ._common import (as_output, check_main_labels, check_numbers, check_ray_inputs,
+                      check_shapes, rank_beams, shown, strip_pair)
 
 __all__ = ["SplitResult", "split", "split_angle_deg", "wollaston_small_angle_split_deg"]
 
@@ -34,7 +36,10 @@ class SplitResult:
     power : dict[str, ndarray]
         Power of each beam for unpolarised input, as a fraction of the input power.
     flags : dict[str, ndarray of int]
-        :class:`~prismdesign.optics.TraceFlag` bits of each beam.
+        :class:`~prismdesign.optics.TraceFlag` bits of each beam, per ray. Deviations and
+        powers are computed for every ray, also for one that left the clear aperture
+        (``OUTSIDE_APERTURE``, the prism is treated as extending beyond it), was totally
+        reflected or missed a surface: check ``flags[label] == 0`` before trusting a value.
     main_labels : tuple of str
         The two strongest beams (largest unpolarised power summed over all rays, each with at
         least 1 % of the strongest's), ordered by in-plane deviation (most negative first).
@@ -77,12 +82,23 @@ def split_angle_deg(direction_a, direction_b):
     float or ndarray, shape (...)
         Angle in degrees, in [0, 180].
     """
-    a = np.asarray(direction_a, dtype=float)
-    b = np.asarray(direction_b, dtype=float)
-    if a.ndim == 0 or a.shape[-1] != 3 or b.ndim == 0 or b.shape[-1] != 3:
-        raise ValueError(f"directions must be 3-vectors on the last axis, got shapes "
-                         f"{a.shape} and {b.shape}")
-    return as_output(np.rad2deg(np.arctan2(norm(cross(a, b)), dot(a, b))))
+    vectors = []
+    for name, value in (("direction_a", direction_a), ("direction_b", direction_b)):
+        v = check_numbers(name, value, "non-zero 3-vectors (finite numbers, 3 on the last axis)")
+        if v.ndim == 0 or v.shape[-1] != 3:
+            raise ValueError(f"{name} must be 3-vectors on the last axis, got shape {v.shape}")
+        if np.any(norm(v) == 0):
+            raise ValueError(f"{name} must be non-zero 3-vectors (a zero vector has no "
+                             f"direction), got {shown(value)}")
+        vectors.append(v)
+    a, b = vectors
+    check_shapes(("direction_a", a.shape, 1), ("direction_b", b.shape, 1))
+    return as_output(angle_between_deg(a, b))
+
+
+def angle_between_deg(a, b):
+    """atan2(|a × b|, a · b) in degrees, unchecked: for directions computed by the analyses."""
+    return np.rad2deg(np.arctan2(norm(cross(a, b)), dot(a, b)))
 
 
 def wollaston_small_angle_split_deg(n_o, n_e, wedge_angle_deg):
@@ -95,7 +111,7 @@ def wollaston_small_angle_split_deg(n_o, n_e, wedge_angle_deg):
     Parameters
     ----------
     n_o, n_e : array_like
-        Ordinary and extraordinary indices at the wavelength of interest.
+        Ordinary and extraordinary indices at the wavelength of interest (positive).
     wedge_angle_deg : array_like
         Wedge angle θ (degrees).
 
@@ -104,11 +120,13 @@ def wollaston_small_angle_split_deg(n_o, n_e, wedge_angle_deg):
     float or ndarray
         Split angle in degrees.
     """
-    theta = np.deg2rad(np.asarray(wedge_angle_deg, dtype=float))
-    if not np.all((theta > 0) & (theta < np.pi / 2)):
-        raise ValueError(f"wedge_angle_deg must lie between 0 and 90 degrees, got {wedge_angle_deg!r}")
-    delta = np.abs(np.asarray(n_o, dtype=float) - np.asarray(n_e, dtype=float))
-    return as_output(np.rad2deg(2.0 * delta * np.tan(theta)))
+    n_o = check_numbers("n_o", n_o, "positive, finite refractive indices", lambda n: n > 0)
+    n_e = check_numbers("n_e", n_e, "positive, finite refractive indices", lambda n: n > 0)
+    wedge = check_numbers("wedge_angle_deg", wedge_angle_deg,
+                          "an angle in degrees between 0 and 90 (exclusive)",
+                          lambda t: (t > 0) & (t < 90))
+    check_shapes(("n_o", n_o.shape), ("n_e", n_e.shape), ("wedge_angle_deg", wedge.shape))
+    return as_output(np.rad2deg(2.0 * np.abs(n_o - n_e) * np.tan(np.deg2rad(wedge))))
 
 
 def split(prism, wavelength_um, in_plane_deg=0.0, out_of_plane_deg=0.0, *, offset_mm=(0.0, 0.0),
@@ -135,13 +153,23 @@ def split(prism, wavelength_um, in_plane_deg=0.0, out_of_plane_deg=0.0, *, offse
         Arrays broadcast over wavelength, angles and offsets, e.g. ``wavelength_um[:, None]``
         with ``in_plane_deg[None, :]`` gives (n_wavelengths, n_angles).
 
+    Raises
+    ------
+    ValueError
+        In one line, for a `prism` that is not a :class:`~prismdesign.prisms.Prism`, text,
+        booleans, complex or non-finite numbers, wavelengths <= 0, angles outside (−90, 90),
+        inputs that do not broadcast together, or unknown `main_labels`.
+
     Notes
     -----
     The trace is unpolarised so that the main beams are chosen by the power they carry for
-    unpolarised light. Geometry does not depend on the input polarisation.
+    unpolarised light. Geometry does not depend on the input polarisation. Rays that leave the
+    clear aperture are still traced and reported; :attr:`SplitResult.flags` marks them.
     """
-    in_plane, out_of_plane = input_direction_deg(in_plane_deg, out_of_plane_deg)
-    result = prism.trace(wavelength_um, in_plane, out_of_plane, offset_mm=offset_mm,
+    check_prism(prism)
+    wavelength, in_plane, out_of_plane, offset = check_ray_inputs(
+        wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm)
+    result = prism.trace(wavelength, in_plane, out_of_plane, offset_mm=offset,
                          polarisation="unpolarised")
     beams = {label: strip_pair(beam, result.incoherent_pair) for label, beam in result.beams.items()}
     labels = tuple(beams)
@@ -155,7 +183,7 @@ def split(prism, wavelength_um, in_plane_deg=0.0, out_of_plane_deg=0.0, *, offse
     split_deg = bisector = asymmetry = None
     if len(main) == 2:
         a, b = (beams[label].exit_direction for label in main)
-        split_deg = as_output(split_angle_deg(a, b))
+        split_deg = as_output(angle_between_deg(a, b))
         mid = a + b
         bisector = np.rad2deg(np.arctan2(mid[..., 0], mid[..., 2]))
         asymmetry = as_output(bisector - in_plane)

@@ -31,9 +31,11 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from ..optics.vectors import cross, dot, norm, normalize
-from ._common import (as_output, check_main_labels, check_polarisation, input_direction_deg,
-                      rank_beams, strip_pair)
-from .deviation import split_angle_deg
+from ..prisms.base import check_prism
+from ._common import (as_output, check_main_labels, check_non_negative, check_numbers,
+                      check_polarisation, check_ray_inputs, check_shapes, rank_beams,
+                      shown, strip_pair)
+from .deviation import angle_between_deg
 from .jones import jones_matrices
 
 __all__ = ["ExtinctionResult", "extinction", "perturb_axes"]
@@ -67,18 +69,20 @@ def perturb_axes(prism, azimuth_error_deg=0.0, tilt_error_deg=0.0, *, piece=None
     -------
     Prism
     """
-    az = np.deg2rad(np.asarray(azimuth_error_deg, dtype=float))
-    tilt = np.deg2rad(np.asarray(tilt_error_deg, dtype=float))
-    if not (np.all(np.isfinite(az)) and np.all(np.isfinite(tilt))):
-        raise ValueError("azimuth_error_deg and tilt_error_deg must be finite")
-    az, tilt = np.broadcast_arrays(az, tilt)
+    check_prism(prism)
+    az = check_numbers("azimuth_error_deg", azimuth_error_deg, "finite angles in degrees")
+    tilt = check_numbers("tilt_error_deg", tilt_error_deg, "finite angles in degrees")
+    check_shapes(("azimuth_error_deg", az.shape), ("tilt_error_deg", tilt.shape))
+    az, tilt = np.broadcast_arrays(np.deg2rad(az), np.deg2rad(tilt))
     crystal = [i for i, p in enumerate(prism.pieces) if p.is_crystal]
     if piece is None:
         chosen = crystal
-    elif isinstance(piece, (int, np.integer)) and piece in crystal:
+    elif (isinstance(piece, (int, np.integer)) and not isinstance(piece, (bool, np.bool_))
+          and piece in crystal):
         chosen = [int(piece)]
     else:
-        raise ValueError(f"piece must be the index of a crystal piece {crystal} or None, got {piece!r}")
+        raise ValueError(f"piece must be the index of a crystal piece {crystal} or None, "
+                         f"got {shown(piece)}")
     pieces = list(prism.pieces)
     z = np.array([0.0, 0.0, 1.0])
     for i in chosen:
@@ -191,13 +195,29 @@ def extinction(prism, wavelength_um, in_plane_deg=0.0, out_of_plane_deg=0.0, *,
     Returns
     -------
     ExtinctionResult
+
+    Raises
+    ------
+    ValueError
+        In one line, for a `prism` or `nominal` that is not a
+        :class:`~prismdesign.prisms.Prism`, text, booleans, complex or non-finite numbers,
+        wavelengths <= 0, angles outside (−90, 90), negative tolerances or threshold, a zero or
+        malformed Jones vector, inputs that do not broadcast together, or unknown `main_labels`.
     """
+    check_prism(prism)
+    if nominal is not None:
+        check_prism(nominal, "nominal")
     polarisation, input_power = check_polarisation(polarisation)
-    in_plane, out_of_plane = input_direction_deg(in_plane_deg, out_of_plane_deg)
-    for name, value in (("coincidence_deg", coincidence_deg), ("coincidence_mm", coincidence_mm)):
-        if not (np.isfinite(value) and value >= 0):
-            raise ValueError(f"{name} must be finite and >= 0, got {value!r}")
-    args = (wavelength_um, in_plane, out_of_plane)
+    wavelength, in_plane, out_of_plane, offset_mm = check_ray_inputs(
+        wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm,
+        *(() if isinstance(polarisation, str) else (("polarisation", polarisation.shape, 1),)))
+    coincidence_deg = check_non_negative("coincidence_deg", coincidence_deg,
+                                         "a finite angle in degrees >= 0")
+    coincidence_mm = check_non_negative("coincidence_mm", coincidence_mm,
+                                        "a finite distance in mm >= 0")
+    power_threshold = check_non_negative("power_threshold", power_threshold,
+                                         "a finite power fraction >= 0")
+    args = (wavelength, in_plane, out_of_plane)
     reference = (prism if nominal is None else nominal).trace(
         *args, offset_mm=offset_mm, polarisation="unpolarised", power_threshold=power_threshold)
     ref_beams = {label: strip_pair(b, True) for label, b in reference.beams.items()}
@@ -232,7 +252,7 @@ def extinction(prism, wavelength_um, in_plane_deg=0.0, out_of_plane_deg=0.0, *,
             other_direction = geometry[name].exit_direction
             sideways_mm = norm(cross(normalize(direction + other_direction),
                                      geometry[name].exit_position_mm - start))
-            near = ((split_angle_deg(other_direction, direction) <= coincidence_deg)
+            near = ((angle_between_deg(other_direction, direction) <= coincidence_deg)
                     & (sideways_mm <= coincidence_mm))
             if not np.any(near):
                 continue

@@ -24,7 +24,11 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .total_reflection import total_reflection_margin
+from ..prisms.base import check_angle, check_flag, check_positive, check_prism
+from ._common import (check_numbers, check_offsets, check_polarisation, check_ray_inputs,
+                      check_shapes, check_wavelengths, plain, shown)
+from .total_reflection import (Requirement, beam_blocked, beam_passes, check_requirements,
+                               extinction_at_least, power_at_least, power_at_most)
 
 __all__ = ["Requirement", "beam_passes", "beam_blocked", "power_at_least", "power_at_most",
            "extinction_at_least", "default_requirements", "requirement_margins",
@@ -35,108 +39,6 @@ __all__ = ["Requirement", "beam_passes", "beam_blocked", "power_at_least", "powe
 DIRECTIONS = (("+in-plane", 0.0), ("-in-plane", 180.0), ("+out-of-plane", 90.0),
               ("-out-of-plane", 270.0))
 
-_TINY = 1e-300
-
-
-@dataclass(frozen=True)
-class Requirement:
-    """One condition on the beams leaving a prism, with a continuous margin.
-
-    Build with :func:`beam_passes`, :func:`beam_blocked`, :func:`power_at_least`,
-    :func:`power_at_most` or :func:`extinction_at_least`.
-
-    Attributes
-    ----------
-    kind : {"passes", "blocked", "power_at_least", "power_at_most", "extinction_at_least"}
-    beam : str
-        Beam label (e.g. ``"ee"``).
-    limit : float
-        Power fraction of the input, or extinction ratio (linear).
-    leak : str or None
-        Label of the unwanted beam for an extinction requirement.
-    """
-
-    kind: str
-    beam: str
-    limit: float = 0.0
-    leak: str | None = None
-
-    @property
-    def name(self):
-        """Short readable name, used as the key of maps and half-angles."""
-        return {"passes": f"{self.beam} not totally reflected",
-                "blocked": f"{self.beam} totally reflected",
-                "power_at_least": f"{self.beam} power >= {self.limit:g}",
-                "power_at_most": f"{self.beam} power <= {self.limit:g}",
-                "extinction_at_least": f"{self.beam}/{self.leak} >= {self.limit:g}"}[self.kind]
-
-    def margin(self, result, system):
-        """Margin of this requirement for a trace; positive where it holds.
-
-        Units: index² for "passes"/"blocked", power fraction for power limits, decades
-        (log10 of the ratio over the limit) for extinction.
-        """
-        if self.kind in ("passes", "blocked"):
-            m = total_reflection_margin(result, system, self.beam)
-            return m if self.kind == "passes" else -m
-        power = _power(result, self.beam)
-        if self.kind == "power_at_least":
-            return power - self.limit
-        if self.kind == "power_at_most":
-            return self.limit - power
-        leak = _power(result, self.leak)
-        return (np.log10(np.maximum(power, _TINY)) - np.log10(np.maximum(leak, _TINY))
-                - np.log10(self.limit))
-
-
-def _power(result, label):
-    if label not in result.beams:
-        raise ValueError(f"beam {label!r} is not among the traced beams {sorted(result.beams)}")
-    return result.power(label)
-
-
-def _check_label(label):
-    if not isinstance(label, str) or not label:
-        raise ValueError(f"beam label must be a non-empty string such as 'eo', got {label!r}")
-    return label
-
-
-def _check_fraction(name, value):
-    v = float(value)
-    if not (np.isfinite(v) and 0.0 <= v <= 1.0):
-        raise ValueError(f"{name} must be a power fraction between 0 and 1, got {value!r}")
-    return v
-
-
-def beam_passes(beam):
-    """The beam is not totally reflected at any surface or thin layer it crosses."""
-    return Requirement("passes", _check_label(beam))
-
-
-def beam_blocked(beam):
-    """The beam is totally reflected at some surface or thin layer (a rejected Glan beam)."""
-    return Requirement("blocked", _check_label(beam))
-
-
-def power_at_least(beam, fraction):
-    """Transmitted power of the beam (fraction of the input) is at least `fraction`."""
-    return Requirement("power_at_least", _check_label(beam), _check_fraction("fraction", fraction))
-
-
-def power_at_most(beam, fraction):
-    """Transmitted power of the beam (e.g. the tunnelling leak of a rejected beam) is at most
-    `fraction` of the input."""
-    return Requirement("power_at_most", _check_label(beam), _check_fraction("fraction", fraction))
-
-
-def extinction_at_least(beam, leak, ratio):
-    """Power of `beam` over the power of the unwanted `leak` beam is at least `ratio` (linear)."""
-    r = float(ratio)
-    if not (np.isfinite(r) and r > 0):
-        raise ValueError(f"extinction ratio must be a positive number, got {ratio!r}")
-    return Requirement("extinction_at_least", _check_label(beam), r, _check_label(leak))
-
-
 def default_requirements(prism, wavelength_um=None):
     """A sensible spec for a prism.
 
@@ -145,17 +47,26 @@ def default_requirements(prism, wavelength_um=None):
     the gap. Otherwise every beam carrying at least 1 % of unpolarised input at normal incidence
     (at `wavelength_um`, default the design wavelength) must pass.
 
+    Parameters
+    ----------
+    prism : Prism
+    wavelength_um : array_like, optional
+        Vacuum wavelength(s) in µm; of an array, the first one picks the main beams.
+
     Returns
     -------
     tuple of Requirement
     """
-    params = getattr(prism, "parameters", {}) or {}
+    check_prism(prism)
+    if wavelength_um is not None:
+        wavelength_um = check_wavelengths(wavelength_um)
+    params = prism.parameters or {}
     mode = params.get("transmitted_mode")
     if mode in ("o", "e"):
         crystals = sum(1 for piece in prism.pieces if piece.is_crystal)
         other = "e" if mode == "o" else "o"
         return (beam_passes(mode * crystals), beam_blocked(other * crystals))
-    lam = prism.design_wavelength_um if wavelength_um is None else float(np.ravel(wavelength_um)[0])
+    lam = prism.design_wavelength_um if wavelength_um is None else float(wavelength_um.flat[0])
     result = prism.trace(lam, 0.0, 0.0)
     main = [label for label in sorted(result.beams) if float(result.power(label)) >= 0.01]
     return tuple(beam_passes(b) for b in main)
@@ -186,18 +97,28 @@ def requirement_margins(prism, wavelength_um, in_plane_deg, out_of_plane_deg, re
     -------
     ndarray, shape (n_requirements, ...)
         Margins (positive where the requirement holds), broadcast shape of the inputs.
+
+    Raises
+    ------
+    ValueError
+        In one line, for a `prism` that is not a :class:`~prismdesign.prisms.Prism`,
+        `requirements` that are not Requirement objects, text, booleans, complex or non-finite
+        numbers, wavelengths <= 0, angles outside (−90, 90), or inputs that do not broadcast
+        together.
     """
-    requirements = tuple(requirements)
-    if not requirements:
-        raise ValueError("requirements must name at least one Requirement")
+    check_prism(prism)
+    requirements = check_requirements(requirements)
+    polarisation = check_polarisation(polarisation)[0]
+    lam, in_plane, out_of_plane, offset = check_ray_inputs(
+        wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm,
+        *(() if isinstance(polarisation, str) else (("polarisation", polarisation.shape, 1),)))
     if all(r.kind in ("passes", "blocked") for r in requirements):
         # Geometry does not depend on the input polarisation: one diagonal input instead of
         # the incoherent pair halves the work.
         polarisation = (np.sqrt(0.5), np.sqrt(0.5))
-    result = _trace(prism, wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm, polarisation)
+    result = _trace(prism, lam, in_plane, out_of_plane, offset, polarisation)
     system = prism.system()
-    shape = np.broadcast_shapes(np.shape(wavelength_um), np.shape(in_plane_deg),
-                                np.shape(out_of_plane_deg), np.shape(offset_mm)[:-1])
+    shape = np.broadcast_shapes(lam.shape, in_plane.shape, out_of_plane.shape, offset.shape[:-1])
     return np.stack([np.broadcast_to(r.margin(result, system), shape) for r in requirements])
 
 
@@ -299,6 +220,7 @@ def find_edges(prism, wavelength_um, requirements, inside_deg, outside_deg, azim
     offset_mm, polarisation
         As for :func:`requirement_margins`.
     tolerance_deg : float
+        Positive width (degrees) at which the bisection stops.
 
     Returns
     -------
@@ -306,14 +228,23 @@ def find_edges(prism, wavelength_um, requirements, inside_deg, outside_deg, azim
         Edge angle a (degrees) in the broadcast shape; the last angle at which the spec
         holds within `tolerance_deg`.
     """
-    requirements = tuple(requirements)
+    check_prism(prism)
+    requirements = check_requirements(requirements)
+    tolerance_deg = check_positive("tolerance_deg", plain(tolerance_deg))
+    count = len(requirements)
     which = -1 if which is None else which
-    lam, lo, hi, az, sel = np.broadcast_arrays(*(np.asarray(v, dtype=float) for v in
-                                                 (wavelength_um, inside_deg, outside_deg,
-                                                  azimuth_deg, which)))
+    angle = "finite angles in degrees between -90 and 90 (exclusive)"
+    inputs = [("wavelength_um", check_wavelengths(wavelength_um))]
+    for name, value in (("inside_deg", inside_deg), ("outside_deg", outside_deg)):
+        inputs.append((name, check_numbers(name, value, angle, lambda a: np.abs(a) < 90.0)))
+    inputs.append(("azimuth_deg", check_numbers("azimuth_deg", azimuth_deg,
+                                                "finite angles in degrees")))
+    inputs.append(("which", check_numbers(
+        "which", which, f"integer indices from 0 to {count - 1} into the requirements, or -1",
+        lambda i: (i == np.round(i)) & (i >= -1) & (i < count))))
+    check_shapes(*((name, v.shape) for name, v in inputs))
+    lam, lo, hi, az, sel = np.broadcast_arrays(*(v for _, v in inputs))
     sel = sel.astype(int)
-    if np.any((sel < -1) | (sel >= len(requirements))):
-        raise ValueError(f"which must index the {len(requirements)} requirements or be -1")
     lo, hi = lo.copy(), hi.copy()
     cos_a, sin_a = np.cos(np.deg2rad(az)), np.sin(np.deg2rad(az))
     width = np.max(np.abs(hi - lo), initial=0.0)
@@ -353,29 +284,37 @@ def field_of_view(prism, wavelength_um=None, *, requirements=None, half_range_de
         Input polarisation; powers of an unpolarised input add over the incoherent pair.
     refine : bool
         Refine the half-angles by bisection (:func:`find_edges`) to `tolerance_deg`.
+    tolerance_deg : float
+        Positive precision (degrees) of the refined half-angles.
 
     Returns
     -------
     FieldOfView
+
+    Raises
+    ------
+    ValueError
+        In one line, for a `prism` that is not a :class:`~prismdesign.prisms.Prism`, bad
+        wavelengths, `requirements` that are not distinct Requirement objects, an even or
+        too small `steps`, `half_range_deg` outside (0, 90), more than one entry point, a
+        `refine` that is not True or False, or a `tolerance_deg` that is not positive.
     """
-    lam = np.asarray(prism.design_wavelength_um if wavelength_um is None else wavelength_um,
-                     dtype=float)
-    if not (isinstance(steps, (int, np.integer)) and steps >= 3 and steps % 2 == 1):
+    check_prism(prism)
+    lam = check_wavelengths(prism.design_wavelength_um if wavelength_um is None
+                            else wavelength_um)
+    if not (isinstance(steps, (int, np.integer)) and not isinstance(steps, (bool, np.bool_))
+            and steps >= 3 and steps % 2 == 1):
         raise ValueError(f"steps must be an odd integer >= 3 (normal incidence at the centre), "
-                         f"got {steps!r}")
-    half = float(half_range_deg)
-    if not (np.isfinite(half) and 0.0 < half < 90.0):
-        raise ValueError(f"half_range_deg must lie between 0 and 90 degrees, got {half_range_deg!r}")
-    if np.shape(offset_mm) != (2,):
-        raise ValueError(f"offset_mm must be one entry point (x, y), got shape {np.shape(offset_mm)}")
-    requirements = tuple(default_requirements(prism, lam) if requirements is None
-                         else requirements)
-    if not requirements or not all(isinstance(r, Requirement) for r in requirements):
-        raise ValueError(f"requirements must be a non-empty sequence of Requirement objects "
-                         f"(beam_passes, beam_blocked, ...), got {requirements!r}")
+                         f"got {shown(steps)}")
+    half = check_angle("half_range_deg", plain(half_range_deg), 0.0, 90.0)
+    if check_offsets(offset_mm).shape != (2,):
+        raise ValueError(f"offset_mm must be one entry point (x, y) in mm, got shape "
+                         f"{np.shape(offset_mm)}")
+    refine = check_flag("refine", plain(refine))
+    tolerance_deg = check_positive("tolerance_deg", plain(tolerance_deg))
+    requirements = check_requirements(default_requirements(prism, lam) if requirements is None
+                                      else requirements, distinct=True)
     names = [r.name for r in requirements]
-    if len(set(names)) != len(names):
-        raise ValueError(f"requirements must be distinct, got {names}")
     angles = np.linspace(-half, half, steps)
     margins = requirement_margins(prism, lam[..., None, None], angles, angles[:, None],
                                   requirements, offset_mm=offset_mm, polarisation=polarisation)
@@ -408,4 +347,4 @@ def field_of_view(prism, wavelength_um=None, *, requirements=None, half_range_de
     return FieldOfView(wavelength_um=lam, in_plane_deg=angles, out_of_plane_deg=angles.copy(),
                        requirements=requirements,
                        margins=dict(zip(names, margins)), maps=maps,
-                       half_angles_deg=half_angles, open_ended=open_ended, refined=bool(refine))
+                       half_angles_deg=half_angles, open_ended=open_ended, refined=refine)

@@ -26,7 +26,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from ..optics.vectors import closest_approach, dot
+from ..optics.vectors import closest_approach, cross, dot, norm
 
 __all__ = ["main_beams", "exit_wave_paths", "optical_path_difference", "shear_mm",
            "Localisation", "fringe_localisation", "small_angle_estimates", "PARALLEL_LIMIT"]
@@ -113,15 +113,16 @@ def _offsets(offset_mm):
 
 def optical_path_difference(prism, wavelength_um, offset_mm=(0.0, 0.0), *, beams=None,
                             in_plane_deg=0.0, out_of_plane_deg=0.0, plane_z_mm=None):
-    """Optical path difference of two beams born from the same entry point, on a plane.
+    """Optical path difference of the two waves at a point of a plane (what fringes show).
 
-    Each of the two rays from an entry point is continued to the plane z = `plane_z_mm` and the
-    optical paths (from the input wavefront) are subtracted: OPD = L_a − L_b, a and b being
-    `beams` in order. This is the path difference accumulated by the two polarisations along
-    their own rays, e.g. (n_e − n_o)(t₁ − t₂) for a Wollaston at normal incidence with wedge
-    thicknesses t₁, t₂; the two rays reach the plane at points separated by the shear
-    (:func:`shear_mm`). For the difference at the point where the rays meet, see
-    :func:`fringe_localisation` (``opd_mm``).
+    The two rays born from an entry point reach the plane z = `plane_z_mm` at points separated
+    by the shear (:func:`shear_mm`); the OPD is evaluated at their midpoint r as the difference
+    of the two exit plane waves' phases there, OPD = L_a(r) − L_b(r) (module docstring), a and b
+    being `beams` in order. Because both waves are referred to the same input ray, this is the
+    phase difference an analyser after the prism turns into fringes: (n_e − n_o)·t for a plate
+    at normal incidence, t(q_e − q_o) at oblique incidence (q the normal wave-vector
+    components), and the Savart plate's oblique-incidence fringes. (Subtracting the two rays'
+    own paths at their two different landing points would miss the k·shear term.)
 
     Parameters
     ----------
@@ -146,7 +147,8 @@ def optical_path_difference(prism, wavelength_um, offset_mm=(0.0, 0.0), *, beams
     z = prism.exit_z_mm if plane_z_mm is None else float(plane_z_mm)
     a, b = _trace_pair(prism, beams, wavelength_um, in_plane_deg, out_of_plane_deg,
                        _offsets(offset_mm))
-    return _phase_at(a, _on_plane(a, z)) - _phase_at(b, _on_plane(b, z))
+    point = 0.5 * (_on_plane(a, z) + _on_plane(b, z))
+    return _phase_at(a, point) - _phase_at(b, point)
 
 
 def shear_mm(prism, wavelength_um, offset_mm=(0.0, 0.0), *, beams=None, in_plane_deg=0.0,
@@ -259,7 +261,9 @@ def fringe_localisation(prism, wavelength_um=None, *, beams=None, in_plane_deg=0
     beams = _pair(prism, beams, lam)
     half = 0.5 * float(aperture_fraction) * prism.width_mm
     x = np.linspace(-half, half, samples)
-    offsets = np.stack([x, np.zeros_like(x)], axis=-1)
+    # Entry points along the prism's own x axis (it may be turned about z).
+    turn = np.deg2rad(prism.rotation_deg)
+    offsets = np.stack([x * np.cos(turn), x * np.sin(turn)], axis=-1)
     a, b = _trace_pair(prism, beams, lam[..., None], in_plane_deg, out_of_plane_deg, offsets)
     mid, gap, parallel = closest_approach(a.exit_position_mm, a.exit_direction,
                                           b.exit_position_mm, b.exit_direction, PARALLEL_LIMIT)
@@ -269,7 +273,8 @@ def fringe_localisation(prism, wavelength_um=None, *, beams=None, in_plane_deg=0
     finite_mid = np.where(parallel[..., None], a.exit_position_mm, mid)
     opd = _phase_at(a, finite_mid) - _phase_at(b, finite_mid)
     # Least-squares line z = z0 + slope·x through the locus points, batched over wavelength.
-    px, pz = finite_mid[..., 0], finite_mid[..., 2]
+    px = finite_mid[..., 0] * np.cos(turn) + finite_mid[..., 1] * np.sin(turn)
+    pz = finite_mid[..., 2]
     mx, mz = px.mean(axis=-1), pz.mean(axis=-1)
     with np.errstate(invalid="ignore", divide="ignore"):
         slope = (((px - mx[..., None]) * (pz - mz[..., None])).sum(axis=-1)
@@ -277,8 +282,9 @@ def fringe_localisation(prism, wavelength_um=None, *, beams=None, in_plane_deg=0
     # [()] turns 0-d results into scalars (scalar wavelength in, scalars out).
     z0 = np.where(at_inf, np.inf, mz - slope * mx)[()]
     tilt = np.where(at_inf, np.nan, np.rad2deg(np.arctan(slope)))[()]
-    cos_split = np.clip(dot(a.exit_direction, b.exit_direction), -1.0, 1.0)
-    split = np.rad2deg(np.arccos(cos_split)).mean(axis=-1)
+    # arctan2(|a × b|, a·b): exact zero for parallel waves, full precision for small splits.
+    split = np.rad2deg(np.arctan2(norm(cross(a.exit_direction, b.exit_direction)),
+                                  dot(a.exit_direction, b.exit_direction))).mean(axis=-1)
     return Localisation(wavelength_um=lam, beams=beams, entry_x_mm=x, points_mm=mid, gap_mm=gap,
                         opd_mm=opd, z_at_axis_mm=z0,
                         distance_from_exit_mm=z0 - _boundary_z(prism.boundaries[-1]),
@@ -318,7 +324,9 @@ def small_angle_estimates(prism, wavelength_um):
                                                  prism.boundaries[-1].normal):
         n_o, n_e = (n / n_s for n in prism.pieces[0].material.indices(lam))
         normal = prism.boundaries[1].normal
-        tan_theta = normal[0] / normal[2]
+        # Wedge angle in the prism's own principal section (the prism may be turned about z).
+        turn = np.deg2rad(prism.rotation_deg)
+        tan_theta = (np.cos(turn) * normal[0] + np.sin(turn) * normal[1]) / normal[2]
         factor = (n_o + n_e) / (2.0 * n_o * n_e)
         z_iface = _boundary_z(prism.boundaries[1])
         z_exit = _boundary_z(prism.boundaries[-1])

@@ -21,7 +21,9 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..optics.vectors import cross, norm, normalize
-from ._common import as_output, check_main_labels, input_direction_deg, rank_beams, strip_pair
+from ..prisms.base import check_finite, check_prism
+from ._common import (as_output, check_main_labels, check_numbers, check_ray_inputs,
+                      check_shapes, check_wavelengths, plain, rank_beams, strip_pair)
 
 __all__ = ["SeparationResult", "separation", "gaussian_beam_radius_mm"]
 
@@ -47,14 +49,26 @@ def gaussian_beam_radius_mm(waist_mm, wavelength_um, distance_mm, m_squared=1.0)
     float or ndarray
         Beam radius (mm), broadcast over the inputs.
     """
-    w0 = np.asarray(waist_mm, dtype=float)
-    m2 = np.asarray(m_squared, dtype=float)
-    if not np.all(np.isfinite(w0) & (w0 > 0)):
-        raise ValueError(f"waist_mm must be positive and finite, got {waist_mm!r}")
-    if not np.all(np.isfinite(m2) & (m2 >= 1.0)):
-        raise ValueError(f"m_squared must be a number >= 1, got {m_squared!r}")
-    rayleigh_mm = np.pi * w0 ** 2 / (m2 * np.asarray(wavelength_um, dtype=float) * 1e-3)
-    return as_output(w0 * np.sqrt(1.0 + (np.asarray(distance_mm, dtype=float) / rayleigh_mm) ** 2))
+    w0, m2 = _check_beam(waist_mm, m_squared)
+    lam = check_wavelengths(wavelength_um)
+    z = check_numbers("distance_mm", distance_mm, "finite distances in mm")
+    check_shapes(("waist_mm", w0.shape), ("wavelength_um", lam.shape), ("distance_mm", z.shape),
+                 ("m_squared", m2.shape))
+    return as_output(_radius_mm(w0, lam, z, m2))
+
+
+def _check_beam(waist_mm, m_squared):
+    """Waist radii (positive, mm) and beam quality factors (>= 1) as float arrays."""
+    return (check_numbers("waist_mm", waist_mm, "positive, finite waist radii in mm",
+                          lambda w: w > 0),
+            check_numbers("m_squared", m_squared, "finite beam quality factors M² >= 1",
+                          lambda m: m >= 1.0))
+
+
+def _radius_mm(w0, wavelength_um, distance_mm, m2):
+    """w0 √(1 + (z/z_R)²), unchecked: for reduced distances computed from a trace."""
+    rayleigh_mm = np.pi * w0 ** 2 / (m2 * wavelength_um * 1e-3)
+    return w0 * np.sqrt(1.0 + (distance_mm / rayleigh_mm) ** 2)
 
 
 @dataclass(frozen=True, slots=True)
@@ -73,6 +87,11 @@ class SeparationResult:
         Where each beam leaves the prism and where it meets the plane.
     power : dict[str, ndarray]
         Unpolarised power of each beam (fraction of the input).
+    flags : dict[str, ndarray of int]
+        :class:`~prismdesign.optics.TraceFlag` bits of each beam, per ray. Positions and
+        separations are computed for every ray, also for one that left the clear aperture
+        (``OUTSIDE_APERTURE``: the prism is treated as extending beyond it), was totally
+        reflected or missed a surface: check ``flags[label] == 0`` before trusting a value.
     separation_mm : ndarray or None
         Distance between the two main beams on the plane.
     exit_offset_mm : ndarray, shape (..., 3), or None
@@ -100,6 +119,7 @@ class SeparationResult:
     exit_position_mm: dict
     position_mm: dict
     power: dict
+    flags: dict
     separation_mm: object = None
     exit_offset_mm: object = None
     lateral_offset_mm: object = None
@@ -146,7 +166,7 @@ def separation(prism, wavelength_um, distance_mm, in_plane_deg=0.0, out_of_plane
         Beam quality factor M² of the input beam (≥ 1).
     min_clearance : float
         Clearance (in beam radii) above which the beams count as resolved; 0 means the 1/e²
-        circles just do not touch.
+        circles just do not touch, a negative value accepts some overlap. Any finite number.
     main_labels : pair of str, optional
         The two beams to compare; default the two strongest (see :func:`split`).
 
@@ -155,17 +175,33 @@ def separation(prism, wavelength_um, distance_mm, in_plane_deg=0.0, out_of_plane
     SeparationResult
         Arrays broadcast over wavelength, distance, angles and offsets.
 
+    Raises
+    ------
+    ValueError
+        In one line, for a `prism` that is not a :class:`~prismdesign.prisms.Prism`, text,
+        booleans, complex or non-finite numbers, wavelengths <= 0, distances < 0, angles outside
+        (−90, 90), waists <= 0, M² < 1, inputs that do not broadcast together, or unknown
+        `main_labels`.
+
     Notes
     -----
     Separation is measured on the plane; radii are measured across each beam. For the few
     degrees of deviation of beam-splitting prisms the difference (a factor 1/cos of the
-    deviation on the footprint) is below 0.2 %.
+    deviation on the footprint) is below 0.2 %. Rays that leave the clear aperture are still
+    traced and reported; :attr:`SeparationResult.flags` marks them.
     """
-    distance = np.asarray(distance_mm, dtype=float)
-    if not np.all(np.isfinite(distance) & (distance >= 0)):
-        raise ValueError(f"distance_mm must be finite and >= 0, got {distance_mm!r}")
-    in_plane, out_of_plane = input_direction_deg(in_plane_deg, out_of_plane_deg)
-    result = prism.trace(wavelength_um, in_plane, out_of_plane, offset_mm=offset_mm,
+    check_prism(prism)
+    distance = check_numbers("distance_mm", distance_mm, "finite distances in mm, >= 0",
+                             lambda d: d >= 0)
+    min_clearance = check_finite("min_clearance", plain(min_clearance),
+                                 "a finite number (clearance in beam radii)")
+    extra = [("distance_mm", distance.shape)]
+    if waist_mm is not None:
+        waist, m2 = _check_beam(waist_mm, m_squared)
+        extra += [("waist_mm", waist.shape), ("m_squared", m2.shape)]
+    wavelength, in_plane, out_of_plane, offset = check_ray_inputs(
+        wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm, *extra)
+    result = prism.trace(wavelength, in_plane, out_of_plane, offset_mm=offset,
                          polarisation="unpolarised")
     beams = {label: strip_pair(beam, result.incoherent_pair) for label, beam in result.beams.items()}
     plane_z = prism.exit_z_mm + distance
@@ -182,7 +218,8 @@ def separation(prism, wavelength_um, distance_mm, in_plane_deg=0.0, out_of_plane
     main = tuple(sorted(main, key=lambda label: (float(np.mean(position[label][..., 0])), label)))
     values = dict(plane_z_mm=as_output(plane_z), labels=tuple(beams), main_labels=main,
                   exit_position_mm={label: beam.exit_position_mm for label, beam in beams.items()},
-                  position_mm=position, power=power)
+                  position_mm=position, power=power,
+                  flags={label: as_output(beam.flags) for label, beam in beams.items()})
     if len(main) == 2:
         a, b = main
         values["separation_mm"] = as_output(norm(position[b] - position[a]))
@@ -191,18 +228,16 @@ def separation(prism, wavelength_um, distance_mm, in_plane_deg=0.0, out_of_plane
         values["exit_offset_mm"] = offset
         values["lateral_offset_mm"] = as_output(norm(cross(axis, offset)))
     if waist_mm is not None:
-        m2 = np.asarray(m_squared, dtype=float)
-        wavelength = np.asarray(wavelength_um, dtype=float)
         reduced = {label: _reduced_distance_mm(beam, position[label]) for label, beam in beams.items()}
-        radius = {label: gaussian_beam_radius_mm(waist_mm, wavelength, z, m2)
+        radius = {label: as_output(_radius_mm(waist, wavelength, z, m2))
                   for label, z in reduced.items()}
         values["reduced_distance_mm"] = {label: as_output(z) for label, z in reduced.items()}
         values["beam_radius_mm"] = radius
         values["divergence_deg"] = as_output(
-            np.rad2deg(m2 * wavelength * 1e-3 / (np.pi * np.asarray(waist_mm, dtype=float))))
+            np.rad2deg(m2 * wavelength * 1e-3 / (np.pi * waist)))
         if len(main) == 2:
             w_a, w_b = radius[main[0]], radius[main[1]]
             clearance = (values["separation_mm"] - (w_a + w_b)) / np.maximum(w_a, w_b)
             values["clearance"] = as_output(clearance)
-            values["resolved"] = as_output(clearance > float(min_clearance))
+            values["resolved"] = as_output(clearance > min_clearance)
     return SeparationResult(**values)

@@ -14,12 +14,22 @@ layer). Writing κ² = |k_t|², the wave can propagate into
 
 The margin used here is (b² − a c₀)/a, which equals n² − κ² in the isotropic limit, so all
 margins are in units of index² and change sign exactly at the critical angle.
+
+The :class:`Requirement` objects of a field-of-view spec (beam passes, beam blocked, power and
+extinction limits) turn these margins, and the powers of a trace, into one continuous margin per
+condition, positive where it holds; :mod:`prismdesign.analysis.field_of_view` bisects on them.
 """
+from dataclasses import dataclass
+
 import numpy as np
 
 from ..optics.vectors import dot
+from ..prisms.base import check_finite, check_positive
+from ._common import plain, shown
 
-__all__ = ["total_reflection_margin", "surface_margins"]
+__all__ = ["total_reflection_margin", "surface_margins", "Requirement", "beam_passes",
+           "beam_blocked", "power_at_least", "power_at_most", "extinction_at_least",
+           "check_requirements"]
 
 
 def _mode_margin(kt2, c_t, c_n, n_o, n_e, mode):
@@ -121,3 +131,137 @@ def total_reflection_margin(result, system, label):
     alive_before = np.logical_and.accumulate(
         np.concatenate([np.ones_like(margins[:1], dtype=bool), margins[:-1] > 0]), axis=0)
     return np.where(alive_before, margins, np.inf).min(axis=0)
+
+
+_TINY = 1e-300
+
+_KINDS = ("passes", "blocked", "power_at_least", "power_at_most", "extinction_at_least")
+
+
+@dataclass(frozen=True)
+class Requirement:
+    """One condition on the beams leaving a prism, with a continuous margin.
+
+    Build with :func:`beam_passes`, :func:`beam_blocked`, :func:`power_at_least`,
+    :func:`power_at_most` or :func:`extinction_at_least`.
+
+    Attributes
+    ----------
+    kind : {"passes", "blocked", "power_at_least", "power_at_most", "extinction_at_least"}
+    beam : str
+        Beam label (e.g. ``"ee"``).
+    limit : float
+        Power fraction of the input, or extinction ratio (linear).
+    leak : str or None
+        Label of the unwanted beam for an extinction requirement.
+    """
+
+    kind: str
+    beam: str
+    limit: float = 0.0
+    leak: str | None = None
+
+    def __post_init__(self):
+        if self.kind not in _KINDS:
+            raise ValueError(f"Requirement kind must be one of {', '.join(_KINDS)}, "
+                             f"got {shown(self.kind)}")
+        _check_label(self.beam)
+        object.__setattr__(self, "limit", check_finite("limit", plain(self.limit)))
+        if self.kind == "extinction_at_least":
+            _check_label(self.leak)
+
+    @property
+    def name(self):
+        """Short readable name, used as the key of maps and half-angles."""
+        return {"passes": f"{self.beam} not totally reflected",
+                "blocked": f"{self.beam} totally reflected",
+                "power_at_least": f"{self.beam} power >= {self.limit:g}",
+                "power_at_most": f"{self.beam} power <= {self.limit:g}",
+                "extinction_at_least": f"{self.beam}/{self.leak} >= {self.limit:g}"}[self.kind]
+
+    def margin(self, result, system):
+        """Margin of this requirement for a trace; positive where it holds.
+
+        Units: index² for "passes"/"blocked", power fraction for power limits, decades
+        (log10 of the ratio over the limit) for extinction.
+        """
+        if self.kind in ("passes", "blocked"):
+            m = total_reflection_margin(result, system, self.beam)
+            return m if self.kind == "passes" else -m
+        power = _power(result, self.beam)
+        if self.kind == "power_at_least":
+            return power - self.limit
+        if self.kind == "power_at_most":
+            return self.limit - power
+        leak = _power(result, self.leak)
+        return (np.log10(np.maximum(power, _TINY)) - np.log10(np.maximum(leak, _TINY))
+                - np.log10(self.limit))
+
+
+def _power(result, label):
+    if label not in result.beams:
+        raise ValueError(f"beam {label!r} is not among the traced beams {sorted(result.beams)}")
+    return result.power(label)
+
+
+def _check_label(label):
+    if not isinstance(label, str) or not label:
+        raise ValueError(f"beam label must be a non-empty string such as 'eo', got {label!r}")
+    return label
+
+
+def _check_fraction(name, value):
+    what = "a power fraction between 0 and 1"
+    v = check_finite(name, plain(value), what)
+    if not 0.0 <= v <= 1.0:
+        raise ValueError(f"{name} must be {what}, got {shown(value)}")
+    return v
+
+
+def beam_passes(beam):
+    """The beam is not totally reflected at any surface or thin layer it crosses."""
+    return Requirement("passes", _check_label(beam))
+
+
+def beam_blocked(beam):
+    """The beam is totally reflected at some surface or thin layer (a rejected Glan beam)."""
+    return Requirement("blocked", _check_label(beam))
+
+
+def power_at_least(beam, fraction):
+    """Transmitted power of the beam (fraction of the input) is at least `fraction`."""
+    return Requirement("power_at_least", _check_label(beam), _check_fraction("fraction", fraction))
+
+
+def power_at_most(beam, fraction):
+    """Transmitted power of the beam (e.g. the tunnelling leak of a rejected beam) is at most
+    `fraction` of the input."""
+    return Requirement("power_at_most", _check_label(beam), _check_fraction("fraction", fraction))
+
+
+def extinction_at_least(beam, leak, ratio):
+    """Power of `beam` over the power of the unwanted `leak` beam is at least `ratio` (linear)."""
+    r = check_positive("extinction ratio", plain(ratio))
+    return Requirement("extinction_at_least", _check_label(beam), r, _check_label(leak))
+
+
+def check_requirements(requirements, distinct=False):
+    """A non-empty tuple of :class:`Requirement` objects (with `distinct`, no two alike), or a
+    one-line ValueError."""
+    allowed = ("a non-empty sequence of Requirement objects (made by beam_passes, "
+               "beam_blocked, power_at_least, power_at_most, extinction_at_least)")
+    if isinstance(requirements, Requirement):
+        items = (requirements,)
+    elif isinstance(requirements, (str, bytes)):
+        items = ()
+    else:
+        try:
+            items = tuple(requirements)
+        except TypeError:
+            items = ()
+    if not items or not all(isinstance(r, Requirement) for r in items):
+        raise ValueError(f"requirements must be {allowed}, got {shown(requirements)}")
+    names = [r.name for r in items]
+    if distinct and len(set(names)) != len(names):
+        raise ValueError(f"requirements must be distinct, got {names}")
+    return items

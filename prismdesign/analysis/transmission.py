@@ -17,7 +17,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ._common import as_output, check_polarisation, input_direction_deg
+from ..prisms.base import check_prism
+from ._common import as_output, check_polarisation, check_ray_inputs
 
 __all__ = ["TransmissionResult", "transmission"]
 
@@ -47,7 +48,10 @@ class TransmissionResult:
         1 − total − Σ reflected_by_face: branches pruned below the tracer's power threshold (and
         rays that missed a surface). Of order 1e-12 or less for a well-behaved trace.
     flags : dict[str, ndarray of int]
-        :class:`~prismdesign.optics.TraceFlag` bits of each transmitted beam.
+        :class:`~prismdesign.optics.TraceFlag` bits of each transmitted beam, per ray. Powers
+        are computed for every ray, also for one that left the clear aperture
+        (``OUTSIDE_APERTURE``: the prism is treated as extending beyond it) or missed a surface:
+        check ``flags[label] == 0`` before trusting a value.
     """
 
     labels: tuple
@@ -81,10 +85,22 @@ def transmission(prism, wavelength_um, in_plane_deg=0.0, out_of_plane_deg=0.0, *
     Returns
     -------
     TransmissionResult
+        Rays that leave the clear aperture are still traced; :attr:`TransmissionResult.flags`
+        marks them.
+
+    Raises
+    ------
+    ValueError
+        In one line, for a `prism` that is not a :class:`~prismdesign.prisms.Prism`, text,
+        booleans, complex or non-finite numbers, wavelengths <= 0, angles outside (−90, 90),
+        a zero or malformed Jones vector, or inputs that do not broadcast together.
     """
+    check_prism(prism)
     polarisation, input_power = check_polarisation(polarisation)
-    in_plane, out_of_plane = input_direction_deg(in_plane_deg, out_of_plane_deg)
-    result = prism.trace(wavelength_um, in_plane, out_of_plane, offset_mm=offset_mm,
+    wavelength, in_plane, out_of_plane, offset = check_ray_inputs(
+        wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm,
+        *(() if isinstance(polarisation, str) else (("polarisation", polarisation.shape, 1),)))
+    result = prism.trace(wavelength, in_plane, out_of_plane, offset_mm=offset,
                          polarisation=polarisation, keep_reflections=True)
     pair = result.incoherent_pair
 

@@ -279,7 +279,8 @@ def trace(system, position_mm, direction, wavelength_um, polarisation=(1.0, 0.0)
     keep_reflections : bool
         Also record the first reflected branch at each surface (ghosts), not traced further.
     power_threshold : float
-        Branches whose power stays below this on every ray are pruned.
+        Branches whose power stays below this fraction of the ray's input power, on every ray,
+        are pruned (0 keeps every branch, including totally reflected ones).
 
     Returns
     -------
@@ -297,6 +298,9 @@ def trace(system, position_mm, direction, wavelength_um, polarisation=(1.0, 0.0)
     n0 = media_indices[0][0]
     x_p, y_p = transverse_basis(direction)
     field = jones[:, :1] * x_p + jones[:, 1:] * y_p
+    # Pruning compares each ray's branch power with its own input power, so the result does not
+    # depend on the scale of the Jones vectors.
+    input_power = (np.abs(jones) ** 2).sum(axis=-1)
     start = _Branch(label="", points=[position], normals=[direction], rays=[direction],
                     indices=[n0], k=direction * n0[:, None], field=field,
                     power=(np.abs(jones) ** 2).sum(axis=-1), path=np.zeros(wavelength.size),
@@ -343,7 +347,7 @@ def trace(system, position_mm, direction, wavelength_um, polarisation=(1.0, 0.0)
                 for mode_label, group in groups:
                     j0 = group[0]
                     power = sum(np.abs(amplitude[:, j]) ** 2 for j in group)
-                    if np.max(power, initial=0.0) < power_threshold:
+                    if not np.any(power >= power_threshold * input_power):
                         continue
                     field_out = sum(amplitude[:, j, None] * res.e_field[:, j] for j in group)
                     dead = np.all(res.evanescent[:, list(group)], axis=-1) | res.singular

@@ -219,7 +219,10 @@ class Prism:
 
     # ----------------------------------------------------------------- geometry
     def outline(self):
-        """Section y = 0 of each piece as a polygon.
+        """Principal section of each piece as a polygon.
+
+        The section is the prism's own x–z plane (y = 0 before any turn about z), so a turned
+        prism keeps its outline; x below is measured along the prism's own x axis.
 
         Returns
         -------
@@ -228,12 +231,14 @@ class Prism:
         """
         half = 0.5 * self.width_mm
         big = 1e3 * (1.0 + self.width_mm)
+        turn = np.deg2rad(self.rotation_deg)
+        own_x = np.array([np.cos(turn), np.sin(turn), 0.0])
         result = []
         for i, piece in enumerate(self.pieces):
             poly = np.array([[-big, -half], [big, -half], [big, half], [-big, half]])
             for b, keep in ((self.boundaries[i], True), (self.boundaries[i + 1], False)):
-                point = b.point_mm[[2, 0]]
-                normal = b.normal[[2, 0]]
+                point = np.array([b.point_mm[2], b.point_mm @ own_x])
+                normal = np.array([b.normal[2], b.normal @ own_x])
                 poly = _clip(poly, point, normal, keep)
             result.append((piece, poly))
         return result

@@ -235,7 +235,9 @@ def glan_transmitted_mode(prism, wavelength_um=None, in_plane_deg=0.0):
         raise ValueError(f"glan_transmitted_mode needs a prism with a gap or cement layer at its "
                          f"interface, got a {prism.kind!r} without one")
     n_gap = float(layer.material.indices(lam)[0])
-    axis = "x" if abs(prism.pieces[0].optic_axis[0]) > 0.5 else "y"
+    # Axis orientation in the prism's own frame (it may be turned about z).
+    own_axis = np.asarray(prism.pieces[0].optic_axis) @ _turn(prism)
+    axis = "x" if abs(own_axis[..., 0].mean()) > 0.5 else "y"
     theta_o, theta_e = glan_cut_angle_limits(prism.pieces[0].material, lam, n_gap, axis,
                                              in_plane_deg, prism.surround)
     cut = np.rad2deg(np.arccos(prism.boundaries[1].normal[2]))
@@ -244,8 +246,15 @@ def glan_transmitted_mode(prism, wavelength_um=None, in_plane_deg=0.0):
             (True, True): "none"}[tuple(reflects)]
 
 
+def _turn(prism):
+    """Rotation matrix of the prism's turn about z (identity for an unturned prism)."""
+    a = np.deg2rad(prism.rotation_deg)
+    return np.array([[np.cos(a), -np.sin(a), 0.0], [np.sin(a), np.cos(a), 0.0], [0.0, 0.0, 1.0]])
+
+
 def _first_wedge_faces(prism):
-    """Outward faces of the first wedge other than the gap: (label, outward normal, point)."""
+    """Outward faces of the first wedge other than the gap, in the prism's own frame (before
+    any turn about z): (label, outward normal, point)."""
     half_w, half_h = 0.5 * prism.width_mm, 0.5 * prism.height_mm
     return [("entrance face", np.array([0.0, 0.0, -1.0]), np.zeros(3)),
             ("side face -x", np.array([-1.0, 0.0, 0.0]), np.array([-half_w, 0.0, 0.0])),
@@ -255,19 +264,26 @@ def _first_wedge_faces(prism):
 
 
 def _face_surface(prism, label, outward, point):
-    """The face a rejected beam leaves through, with its clear aperture."""
-    gap = prism.boundaries[1]
+    """The face a rejected beam leaves through, with its clear aperture, in the global frame.
+
+    `outward` and `point` are in the prism's own frame; the surface is turned with the prism.
+    """
+    turn = _turn(prism)
+    gap_point = turn.T @ prism.boundaries[1].point_mm
+    gap_normal = turn.T @ prism.boundaries[1].normal
     if label == "entrance face":
-        return Surface(point, outward, aperture=RectangularAperture(
-            0.5 * prism.width_mm, 0.5 * prism.height_mm), label=label)
-    if label.startswith("side face") and label.endswith("x"):
+        aperture = RectangularAperture(0.5 * prism.width_mm, 0.5 * prism.height_mm,
+                                       width_direction=tuple(turn @ [1.0, 0.0, 0.0]))
+    elif label.startswith("side face") and label.endswith("x"):
         x = point[0]
         # The side face runs from the entrance face to where the gap plane cuts it.
-        z_top = gap.point_mm[2] - (x - gap.point_mm[0]) * gap.normal[0] / gap.normal[2]
-        centre = np.array([x, 0.0, 0.5 * z_top])
-        return Surface(centre, outward, aperture=RectangularAperture(
-            0.5 * z_top, 0.5 * prism.height_mm, width_direction=(0.0, 0.0, 1.0)), label=label)
-    return Surface(point, outward, label=label)
+        z_top = gap_point[2] - (x - gap_point[0]) * gap_normal[0] / gap_normal[2]
+        point = np.array([x, 0.0, 0.5 * z_top])
+        aperture = RectangularAperture(0.5 * z_top, 0.5 * prism.height_mm,
+                                       width_direction=(0.0, 0.0, 1.0))
+    else:
+        aperture = None
+    return Surface(turn @ point, turn @ outward, aperture=aperture, label=label)
 
 
 def rejected_beam_system(prism, wavelength_um=None, in_plane_deg=0.0, out_of_plane_deg=0.0):
@@ -309,8 +325,9 @@ def rejected_beam_system(prism, wavelength_um=None, in_plane_deg=0.0, out_of_pla
     if label not in result.beams:
         label = max(result.beams, key=lambda key: float(result.power(key)))
     beam = result.beams[label]
-    start = beam.exit_position_mm[0]
-    direction = beam.exit_direction[0]
+    # Choose the exit face in the prism's own frame (it may be turned about z).
+    start = _turn(prism).T @ beam.exit_position_mm[0]
+    direction = _turn(prism).T @ beam.exit_direction[0]
     best = None
     for name, outward, point in _first_wedge_faces(prism):
         along = float(direction @ outward)
