@@ -95,3 +95,24 @@ def test_bad_shapes_are_named():
         mueller_from_jones(np.ones(3))
     with pytest.raises(ValueError, match="jones"):
         stokes_from_jones(np.ones(3))
+
+
+def test_quarter_wave_plate_stokes_sign_follows_born_and_wolf():
+    # Born & Wolf, Principles of Optics, 7th ed., §1.4.2: for real fields a cos(ωt − k·r + δ),
+    # s3 = 2 a_x a_y sin(δ_y − δ_x). A quartz plate (n_e > n_o) with its optic axis along x
+    # delays x by a quarter wave: with exp(i(k·r − ωt)) amplitudes, E_x gains the larger phase
+    # k0 n_e d, i.e. δ_x − δ_y = −π/2 in Born & Wolf's real form, so s3/s0 = sin(π/2) = +1 for
+    # 45° linear input. The plate is a free stack at normal incidence; its o and e beams overlap
+    # and add coherently (path phase included).
+    from prismdesign import material
+    from prismdesign.analysis import stokes_from_jones
+    from prismdesign.prisms import free_stack
+
+    lam = 0.6328
+    quartz = material("quartz")
+    d_mm = lam / (4.0 * (quartz.n_e(lam) - quartz.n_o(lam))) * 1e-3
+    plate = free_stack([dict(material="quartz", optic_axis="x", thickness_mm=d_mm)])
+    result = plate.trace(lam, polarisation=(np.sqrt(0.5), np.sqrt(0.5)))
+    field = sum(beam.jones(include_path_phase=True) for beam in result.beams.values())
+    s = stokes_from_jones(field)
+    assert s[3] / s[0] == pytest.approx(1.0, abs=1e-4)   # Fresnel T_e ≠ T_o tilts it by ~1e-5

@@ -21,7 +21,10 @@ from ._common import input_direction_deg
 
 __all__ = ["JonesResult", "jones_matrices", "mueller_from_jones", "stokes_from_jones"]
 
-_A = np.array([[1, 0, 0, 1], [1, 0, 0, -1], [0, 1, 1, 0], [0, 1j, -1j, 0]], dtype=complex)
+# Rows give (S0, S1, S2, S3) from the coherency vector (ExEx*, ExEy*, EyEx*, EyEy*). Fields are
+# complex amplitudes of exp(i(k·r − ωt)) throughout prismdesign, so Born & Wolf's
+# s3 = 2 a₁a₂ sin δ (Principles of Optics, 7th ed., §1.4.2, eq. 44) is 2 Im(Ex Ey*).
+_A = np.array([[1, 0, 0, 1], [1, 0, 0, -1], [0, 1, 1, 0], [0, -1j, 1j, 0]], dtype=complex)
 _A_INV = np.linalg.inv(_A)
 
 
@@ -57,15 +60,17 @@ def stokes_from_jones(jones):
     Returns
     -------
     ndarray, shape (..., 4)
-        (|E_x|² + |E_y|², |E_x|² − |E_y|², 2 Re(E_x E_y*), 2 Im(E_x* E_y)), the convention of
-        :func:`mueller_from_jones`.
+        (|E_x|² + |E_y|², |E_x|² − |E_y|², 2 Re(E_x E_y*), 2 Im(E_x E_y*)): Born & Wolf's
+        Stokes parameters (§1.4.2) for amplitudes of exp(i(k·r − ωt)), the convention of
+        :func:`mueller_from_jones`; S3 = 2 a_x a_y sin δ with δ = δ_y − δ_x the phases of
+        their real fields a cos(ωt − k·r + δ).
     """
     j = np.asarray(jones, dtype=complex)
     if j.ndim == 0 or j.shape[-1] != 2:
         raise ValueError(f"jones must be complex 2-vectors on the last axis, got shape {j.shape}")
     ex, ey = j[..., 0], j[..., 1]
     return np.stack([abs(ex) ** 2 + abs(ey) ** 2, abs(ex) ** 2 - abs(ey) ** 2,
-                     2 * (ex * ey.conj()).real, 2 * (ex.conj() * ey).imag], axis=-1)
+                     2 * (ex * ey.conj()).real, 2 * (ex * ey.conj()).imag], axis=-1)
 
 
 def mueller_from_jones(jones):
@@ -78,7 +83,8 @@ def mueller_from_jones(jones):
     Returns
     -------
     ndarray, shape (..., 4, 4)
-        Real Mueller matrix (Azzam & Bashara, 1977, §2.11, from memory). For any Jones matrix
+        Real Mueller matrix (Azzam & Bashara, 1977, §2.11, from memory), with the Stokes
+        convention of :func:`stokes_from_jones` (Born & Wolf §1.4.2). For any Jones matrix
         the result is a pure Mueller matrix: tr(MᵀM) = 4 M₀₀² (Gil & Bernabeu, *Optica Acta*
         32, 259, 1985).
     """
