@@ -199,3 +199,26 @@ def test_rays_outside_the_clear_aperture_are_flagged(analysis):
     for value in flags.values():
         assert value[0] & TraceFlag.OUTSIDE_APERTURE == 0
         assert value[1] & TraceFlag.OUTSIDE_APERTURE
+
+
+# Interference and Jones/Mueller functions: the same one-line rules (reviewer findings).
+@pytest.mark.parametrize("call, pattern", [
+    (lambda A, w: A.optical_path_difference(w, 0.8, in_plane_deg=95), r"in_plane_deg .*-90 and 90"),
+    (lambda A, w: A.optical_path_difference(w, 0.8, offset_mm=(100, 0)), r"clear aperture"),
+    (lambda A, w: A.optical_path_difference(w, 0.8, plane_z_mm=float("nan")), r"plane_z_mm .*finite"),
+    (lambda A, w: A.optical_path_difference(w, []), r"wavelength_um .*empty"),
+    (lambda A, w: A.shear_mm(5, 0.8), r"prism must be a Prism"),
+    (lambda A, w: A.shear_mm(w, [0.8, 0.9], in_plane_deg=[0, 1, 2]), r"must broadcast together"),
+    (lambda A, w: A.fringe_localisation(w, 0.8, in_plane_deg=float("nan")), r"in_plane_deg"),
+    (lambda A, w: A.small_angle_estimates(w, "0.8"), r"wavelength_um .*text"),
+    (lambda A, w: A.main_beams(5), r"prism must be a Prism"),
+    (lambda A, w: A.jones_matrices(w, "0.8"), r"wavelength_um .*text"),
+    (lambda A, w: A.jones_matrices(w, 0.8, include_path_phase="x"), r"include_path_phase .*True or False"),
+    (lambda A, w: A.stokes_from_jones("x"), r"jones must be complex numbers"),
+    (lambda A, w: A.mueller_from_jones([[1, 0], [0, float("nan")]]), r"jones must be finite"),
+])
+def test_interference_and_jones_errors_are_one_line(call, pattern):
+    import prismdesign as pd
+    with pytest.raises(ValueError, match=pattern) as info:
+        call(pd.analysis, pd.prisms.wollaston())
+    assert "\n" not in str(info.value) and "np." not in str(info.value)

@@ -16,7 +16,7 @@ from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 
 from prismdesign.optics import plane_wave_modes, solve_interface
-from prismdesign.optics.eigenmodes import DEGENERATE_AXIS_TOLERANCE, extraordinary_index, mode_fields
+from prismdesign.optics.eigenmodes import DEGENERATE_AXIS_TOLERANCE, extraordinary_index_rad, mode_fields
 from prismdesign.optics.vectors import dot
 
 ENERGY_TOL = 1e-12
@@ -56,7 +56,7 @@ def crystal_incidence(n_o, n_e, axis, direction, mode, normal):
     if mode == "o":
         n = n_o
     else:
-        n = float(extraordinary_index(np.arccos(np.clip(direction.dot(axis), -1, 1)), n_o, n_e))
+        n = float(extraordinary_index_rad(np.arccos(np.clip(direction.dot(axis), -1, 1)), n_o, n_e))
     k = n * direction
     e, _ = mode_fields(k.astype(complex), np.asarray(n_o), np.asarray(n_e), axis, normal, mode)
     return k, e

@@ -9,7 +9,7 @@ import numpy as np
 import pytest
 
 from prismdesign.optics import solve_interface
-from prismdesign.optics.eigenmodes import extraordinary_index, mode_fields
+from prismdesign.optics.eigenmodes import extraordinary_index_rad, mode_fields
 from prismdesign.optics.linear4 import solve4
 
 
@@ -61,7 +61,7 @@ def _random_cases(rng, n):
     direction = np.cos(tilt)[:, None] * normal + np.sin(tilt)[:, None] * tangential
     n_o1, n_e1, n_o2, n_e2 = rng.uniform(1.3, 2.4, (4, n))
     theta = np.arccos(np.clip((direction * axis_1).sum(axis=1), -1, 1))
-    k = direction * extraordinary_index(theta, n_o1, n_e1)[:, None]
+    k = direction * extraordinary_index_rad(theta, n_o1, n_e1)[:, None]
     field, _ = mode_fields(k.astype(complex), n_o1, n_e1, axis_1, normal, "e")
     return k, field, normal, (n_o1, n_e1), axis_1, (n_o2, n_e2), axis_2
 

@@ -29,7 +29,7 @@ from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 
 from prismdesign.optics import plane_wave_modes, solve_interface
-from prismdesign.optics.eigenmodes import extraordinary_index, mode_fields
+from prismdesign.optics.eigenmodes import extraordinary_index_rad, mode_fields
 
 Z = np.array([0.0, 0.0, 1.0])
 index = st.floats(1.0, 2.6)
@@ -171,7 +171,7 @@ def test_normal_incidence_axis_at_any_angle(n1, n_o, n_e, alpha, phi, amp):
     v = np.array([-np.sin(phi), np.cos(phi), 0.0])
     a_u, a_v = amp[0] + 1j * amp[1], amp[2] + 1j * amp[3]
     res = solve_interface(n1 * Z, a_u * u + a_v * v, Z, (n1, n1), Z, (n_o, n_e), axis)
-    n_alpha = extraordinary_index(alpha, n_o, n_e)
+    n_alpha = extraordinary_index_rad(alpha, n_o, n_e)
     r_o, r_e = (n1 - n_o) / (n1 + n_o), (n1 - n_alpha) / (n1 + n_alpha)
     t_o, t_e = 2 * n1 / (n1 + n_o), 2 * n1 / (n1 + n_alpha)
     power_in = abs(a_u) ** 2 + abs(a_v) ** 2
@@ -259,7 +259,7 @@ def _eigen_incident(k_dir, n_o, n_e, axis, normal, mode):
     """Real wave vector and eigenfield of `mode` along `k_dir` (axis = normal for isotropic)."""
     if n_o == n_e:
         axis = normal
-    n = n_o if mode == "o" else float(extraordinary_index(np.arccos(np.clip(k_dir @ axis, -1, 1)), n_o, n_e))
+    n = n_o if mode == "o" else float(extraordinary_index_rad(np.arccos(np.clip(k_dir @ axis, -1, 1)), n_o, n_e))
     k = n * k_dir
     e, _ = mode_fields(k.astype(complex), np.asarray(n_o), np.asarray(n_e), axis, normal, mode)
     return k, e

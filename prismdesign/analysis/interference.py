@@ -26,7 +26,10 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from ..optics import TraceFlag
 from ..optics.vectors import closest_approach, cross, dot, norm
+from ..prisms.base import check_finite, check_prism
+from ._common import check_ray_inputs, check_wavelengths, input_direction_deg
 
 __all__ = ["main_beams", "exit_wave_paths", "optical_path_difference", "shear_mm",
            "Localisation", "fringe_localisation", "small_angle_estimates", "PARALLEL_LIMIT"]
@@ -48,7 +51,9 @@ def main_beams(prism, wavelength_um=None):
     tuple of str
         Two labels in alphabetical order (e.g. ``("eo", "oe")``).
     """
-    lam = prism.design_wavelength_um if wavelength_um is None else float(np.ravel(wavelength_um)[0])
+    check_prism(prism)
+    lam = (prism.design_wavelength_um if wavelength_um is None
+           else float(np.ravel(check_wavelengths(wavelength_um))[0]))
     result = prism.trace(lam, 0.0, 0.0)
     ranked = sorted(result.beams, key=lambda label: -float(result.power(label)))
     if len(ranked) < 2:
@@ -70,7 +75,28 @@ def _trace_pair(prism, beams, wavelength_um, in_plane_deg, out_of_plane_deg, off
     for label in beams:
         if label not in result.beams:
             raise ValueError(f"beam {label!r} is not among the traced beams {sorted(result.beams)}")
-    return result.beams[beams[0]], result.beams[beams[1]]
+    a, b = result.beams[beams[0]], result.beams[beams[1]]
+    # A path difference is only meaningful for rays that really cross the prism: refuse rays
+    # outside a clear aperture, missing a surface or stopped by total internal reflection.
+    flags = np.bitwise_or(a.flags, b.flags)
+    for bit, what in ((TraceFlag.OUTSIDE_APERTURE, "leave the clear aperture"),
+                      (TraceFlag.MISSED_SURFACE, "miss a surface"),
+                      (TraceFlag.TOTAL_INTERNAL_REFLECTION, "are totally reflected"),
+                      (TraceFlag.SINGULAR, "meet a surface at grazing incidence")):
+        if np.any(flags & bit):
+            raise ValueError(f"some rays of beams {beams[0]!r}/{beams[1]!r} {what} for these "
+                             f"inputs (offset_mm within ±{0.5 * prism.width_mm:g} mm, moderate "
+                             f"angles); interference quantities need rays through the prism")
+    return a, b
+
+
+def _checked_rays(prism, wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm, plane_z_mm):
+    """Validate the common inputs; returns wavelength, angles, offsets and the plane's z."""
+    check_prism(prism)
+    lam, in_plane, out_of_plane, offset = check_ray_inputs(wavelength_um, in_plane_deg,
+                                                           out_of_plane_deg, offset_mm)
+    z = prism.exit_z_mm if plane_z_mm is None else check_finite("plane_z_mm", plane_z_mm)
+    return lam, in_plane, out_of_plane, offset, z
 
 
 def exit_wave_paths(beam):
@@ -102,13 +128,6 @@ def _on_plane(beam, plane_z_mm):
     r = beam.exit_position_mm
     t = (plane_z_mm - r[..., 2]) / d[..., 2]
     return r + t[..., None] * d
-
-
-def _offsets(offset_mm):
-    offset = np.asarray(offset_mm, dtype=float)
-    if offset.ndim == 0 or offset.shape[-1] != 2:
-        raise ValueError(f"offset_mm must be (x, y) pairs on the last axis, got shape {offset.shape}")
-    return offset
 
 
 def optical_path_difference(prism, wavelength_um, offset_mm=(0.0, 0.0), *, beams=None,
@@ -143,10 +162,10 @@ def optical_path_difference(prism, wavelength_um, offset_mm=(0.0, 0.0), *, beams
     ndarray
         OPD in mm, broadcast shape of the inputs.
     """
-    beams = _pair(prism, beams, wavelength_um)
-    z = prism.exit_z_mm if plane_z_mm is None else float(plane_z_mm)
-    a, b = _trace_pair(prism, beams, wavelength_um, in_plane_deg, out_of_plane_deg,
-                       _offsets(offset_mm))
+    lam, in_plane, out_of_plane, offset, z = _checked_rays(
+        prism, wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm, plane_z_mm)
+    beams = _pair(prism, beams, lam)
+    a, b = _trace_pair(prism, beams, lam, in_plane, out_of_plane, offset)
     point = 0.5 * (_on_plane(a, z) + _on_plane(b, z))
     return _phase_at(a, point) - _phase_at(b, point)
 
@@ -168,10 +187,10 @@ def shear_mm(prism, wavelength_um, offset_mm=(0.0, 0.0), *, beams=None, in_plane
         (x, y) position of beam a minus that of beam b on the plane (mm); the shear length is
         ``np.hypot(*s.T)``.
     """
-    beams = _pair(prism, beams, wavelength_um)
-    z = prism.exit_z_mm if plane_z_mm is None else float(plane_z_mm)
-    a, b = _trace_pair(prism, beams, wavelength_um, in_plane_deg, out_of_plane_deg,
-                       _offsets(offset_mm))
+    lam, in_plane, out_of_plane, offset, z = _checked_rays(
+        prism, wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm, plane_z_mm)
+    beams = _pair(prism, beams, lam)
+    a, b = _trace_pair(prism, beams, lam, in_plane, out_of_plane, offset)
     return (_on_plane(a, z) - _on_plane(b, z))[..., :2]
 
 
@@ -249,15 +268,19 @@ def fringe_localisation(prism, wavelength_um=None, *, beams=None, in_plane_deg=0
     -------
     Localisation
     """
-    lam = np.asarray(prism.design_wavelength_um if wavelength_um is None else wavelength_um,
-                     dtype=float)
+    check_prism(prism)
+    lam = (np.asarray(prism.design_wavelength_um) if wavelength_um is None
+           else check_wavelengths(wavelength_um))
     if not (isinstance(samples, (int, np.integer)) and samples >= 2):
         raise ValueError(f"samples must be an integer >= 2, got {samples!r}")
-    if not (0.0 < float(aperture_fraction) <= 1.0):
-        raise ValueError(f"aperture_fraction must lie in (0, 1], got {aperture_fraction!r}")
+    aperture_fraction = check_finite("aperture_fraction", aperture_fraction)
+    if not 0.0 < aperture_fraction <= 1.0:
+        raise ValueError(f"aperture_fraction must lie in (0, 1], got {aperture_fraction:g}")
     for name, value in (("in_plane_deg", in_plane_deg), ("out_of_plane_deg", out_of_plane_deg)):
         if np.ndim(value) != 0:
             raise ValueError(f"{name} must be a single angle in degrees, got shape {np.shape(value)}")
+    in_plane_deg, out_of_plane_deg = (float(v) for v in
+                                      input_direction_deg(in_plane_deg, out_of_plane_deg))
     beams = _pair(prism, beams, lam)
     half = 0.5 * float(aperture_fraction) * prism.width_mm
     x = np.linspace(-half, half, samples)
@@ -318,7 +341,8 @@ def small_angle_estimates(prism, wavelength_um):
     dict[str, ndarray]
         Arrays of the wavelength shape.
     """
-    lam = np.asarray(wavelength_um, dtype=float)
+    check_prism(prism)
+    lam = check_wavelengths(wavelength_um)
     n_s = prism.surround.indices(lam)[0]
     if prism.kind == "wollaston" and np.allclose(prism.boundaries[0].normal,
                                                  prism.boundaries[-1].normal):

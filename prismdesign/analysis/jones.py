@@ -17,7 +17,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ._common import input_direction_deg
+from ..prisms.base import check_flag, check_prism
+from ._common import check_ray_inputs, shown
 
 __all__ = ["JonesResult", "jones_matrices", "mueller_from_jones", "stokes_from_jones"]
 
@@ -50,6 +51,19 @@ class JonesResult:
     include_path_phase: bool
 
 
+def _complex_array(name, value):
+    """Finite complex numbers as an array, or a one-line error naming `name`."""
+    if isinstance(value, (str, bytes)):
+        raise ValueError(f"{name} must be complex numbers, got text {value!r}")
+    try:
+        array = np.asarray(value, dtype=complex)
+    except (TypeError, ValueError):
+        raise ValueError(f"{name} must be complex numbers, got {shown(value)}") from None
+    if not np.all(np.isfinite(array)):
+        raise ValueError(f"{name} must be finite, got {shown(value)}")
+    return array
+
+
 def stokes_from_jones(jones):
     """Stokes vector of a fully polarised field.
 
@@ -65,7 +79,7 @@ def stokes_from_jones(jones):
         :func:`mueller_from_jones`; S3 = 2 a_x a_y sin δ with δ = δ_y − δ_x the phases of
         their real fields a cos(ωt − k·r + δ).
     """
-    j = np.asarray(jones, dtype=complex)
+    j = _complex_array("jones", jones)
     if j.ndim == 0 or j.shape[-1] != 2:
         raise ValueError(f"jones must be complex 2-vectors on the last axis, got shape {j.shape}")
     ex, ey = j[..., 0], j[..., 1]
@@ -88,7 +102,7 @@ def mueller_from_jones(jones):
         the result is a pure Mueller matrix: tr(MᵀM) = 4 M₀₀² (Gil & Bernabeu, *Optica Acta*
         32, 259, 1985).
     """
-    j = np.asarray(jones, dtype=complex)
+    j = _complex_array("jones", jones)
     if j.ndim < 2 or j.shape[-2:] != (2, 2):
         raise ValueError(f"jones must be 2x2 matrices on the last two axes, got shape {j.shape}")
     # Kronecker product J ⊗ J*, batched: element [2a + c, 2b + d] = J[a, b] J*[c, d].
@@ -119,7 +133,10 @@ def jones_matrices(prism, wavelength_um, in_plane_deg=0.0, out_of_plane_deg=0.0,
     JonesResult
         Matrices carry the broadcast shape of the inputs before their last two axes.
     """
-    in_plane, out_of_plane = input_direction_deg(in_plane_deg, out_of_plane_deg)
+    check_prism(prism)
+    wavelength_um, in_plane, out_of_plane, offset_mm = check_ray_inputs(
+        wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm)
+    include_path_phase = check_flag("include_path_phase", include_path_phase)
     # No pruning: a branch must exist in both traces to fill both columns.
     traces = [prism.trace(wavelength_um, in_plane, out_of_plane, offset_mm=offset_mm,
                           polarisation=pol, power_threshold=0.0)

@@ -18,7 +18,7 @@ import numpy as np
 from .vectors import cross, dot, hermitian_norm, hermitian_normalize, norm, normalize
 
 __all__ = ["DEGENERATE_AXIS_TOLERANCE", "normal_components", "normal_roots", "mode_fields",
-           "extraordinary_index", "plane_wave_modes", "PlaneWaveModes"]
+           "extraordinary_index", "extraordinary_index_rad", "plane_wave_modes", "PlaneWaveModes"]
 
 #: |k̂ × ĉ| below which the o/e split is taken as degenerate (wave normal along the optic axis)
 #: and an explicit basis is used. At this angle the two indices differ by < 1e-14 · |n_e − n_o|.
@@ -169,11 +169,28 @@ def mode_fields(wave_vector, n_o, n_e, optic_axis, normal, mode):
     return e_field, cross(k, e_field)
 
 
-def extraordinary_index(theta_rad, n_o, n_e):
-    """Phase index of the extraordinary wave at angle θ between wave normal and optic axis.
+def extraordinary_index(angle_to_axis_deg, n_o, n_e):
+    """Phase index of the extraordinary wave whose wave normal makes the given angle with the
+    optic axis.
 
     1/n(θ)² = cos²θ/n_o² + sin²θ/n_e² (Born & Wolf, *Principles of Optics*, §15.3.3).
+
+    Parameters
+    ----------
+    angle_to_axis_deg : array_like
+        Angle θ between wave normal and optic axis, degrees.
+    n_o, n_e : array_like
+        Principal indices. Everything broadcasts.
+
+    Returns
+    -------
+    ndarray
     """
+    return extraordinary_index_rad(np.deg2rad(angle_to_axis_deg), n_o, n_e)
+
+
+def extraordinary_index_rad(theta_rad, n_o, n_e):
+    """:func:`extraordinary_index` with the angle in radians (internal use)."""
     c = np.cos(theta_rad)
     s = np.sin(theta_rad)
     return n_o * n_e / np.sqrt(n_e * n_e * c * c + n_o * n_o * s * s)
@@ -220,7 +237,7 @@ def plane_wave_modes(wave_normal, n_o, n_e, optic_axis):
     u, c = np.broadcast_arrays(u, c)
     n_o, n_e = np.broadcast_arrays(n_o, n_e)
     cos_t = np.clip(dot(u, c), -1.0, 1.0)
-    index_e = extraordinary_index(np.arccos(cos_t), n_o, n_e)
+    index_e = extraordinary_index_rad(np.arccos(cos_t), n_o, n_e)
     results = {}
     for mode, index in (("o", n_o), ("e", index_e)):
         k = u * index[..., None]

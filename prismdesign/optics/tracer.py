@@ -217,7 +217,7 @@ def _prepare_input(position_mm, direction, wavelength_um, polarisation, extra_sh
     bad = ~np.isfinite(wavelength) | (wavelength <= 0)
     if np.any(bad):
         raise ValueError(f"wavelength_um must be positive and finite (µm), got "
-                         f"{wavelength[bad].flat[0]!r}")
+                         f"{float(wavelength[bad].flat[0]):g}")
     if position.ndim == 0 or position.shape[-1] != 3:
         raise ValueError(f"position_mm must be 3-vectors on the last axis, got shape {position.shape}")
     pair = isinstance(polarisation, str)

@@ -19,23 +19,32 @@ __all__ = ["Piece", "Boundary", "Prism", "ideal_antireflection_layer", "check_po
            "trace_from_front"]
 
 
+def _shown(value):
+    """A value as users wrote it: numpy scalars and small arrays as plain Python numbers."""
+    if isinstance(value, np.generic):
+        value = value.item()
+    elif isinstance(value, np.ndarray):
+        value = value.tolist() if value.size <= 6 else f"<array of shape {value.shape}>"
+    return repr(value)
+
+
 def _as_float(name, value, what):
     """float(value), refusing text and booleans (a typo should not become a number)."""
     if isinstance(value, (str, bytes)):
-        raise ValueError(f"{name} must be {what}, not text: got {value!r}")
+        raise ValueError(f"{name} must be {what}, not text: got {_shown(value)}")
     if isinstance(value, (bool, np.bool_)):
-        raise ValueError(f"{name} must be {what}, got the boolean {value!r}")
+        raise ValueError(f"{name} must be {what}, got the boolean {_shown(value)}")
     try:
         return float(value)
     except (TypeError, ValueError):
-        raise ValueError(f"{name} must be {what}, got {value!r}") from None
+        raise ValueError(f"{name} must be {what}, got {_shown(value)}") from None
 
 
 def check_positive(name, value):
     """Return float(value) or fail with a one-line message if it is not positive and finite."""
     v = _as_float(name, value, "a positive number")
     if not (np.isfinite(v) and v > 0):
-        raise ValueError(f"{name} must be a positive number, got {value!r}")
+        raise ValueError(f"{name} must be a positive number, got {_shown(value)}")
     return v
 
 
@@ -43,7 +52,7 @@ def check_angle(name, value, low, high):
     """Return float(value) or fail with a one-line message if it is outside (low, high) degrees."""
     v = _as_float(name, value, "an angle in degrees")
     if not (np.isfinite(v) and low < v < high):
-        raise ValueError(f"{name} must lie between {low:g} and {high:g} degrees, got {value!r}")
+        raise ValueError(f"{name} must lie between {low:g} and {high:g} degrees, got {_shown(value)}")
     return v
 
 
@@ -51,7 +60,7 @@ def check_finite(name, value, what="a finite number"):
     """Return float(value) or fail with a one-line message if it is not a finite number."""
     v = _as_float(name, value, what)
     if not np.isfinite(v):
-        raise ValueError(f"{name} must be {what}, got {value!r}")
+        raise ValueError(f"{name} must be {what}, got {_shown(value)}")
     return v
 
 
@@ -63,16 +72,16 @@ def check_angles(name, value):
         angles = np.asarray(value, dtype=float)
     except (TypeError, ValueError):
         raise ValueError(f"{name} must be an angle in degrees or an array of angles, got "
-                         f"{value!r}") from None
+                         f"{_shown(value)}") from None
     if not np.all(np.isfinite(angles)):
-        raise ValueError(f"{name} must be finite (degrees), got {value!r}")
+        raise ValueError(f"{name} must be finite (degrees), got {_shown(value)}")
     return angles
 
 
 def check_flag(name, value):
     """Return bool(value) for a true/false switch, refusing anything else in one line."""
     if not isinstance(value, (bool, np.bool_)):
-        raise ValueError(f"{name} must be True or False, got {value!r}")
+        raise ValueError(f"{name} must be True or False, got {_shown(value)}")
     return bool(value)
 
 
