@@ -365,3 +365,36 @@ def test_constructed_materials_are_validated():
     with pytest.raises(ValueError, match=r"validity_um = \[1.0, 0.4\]"):
         IsotropicMaterial(name="x", index=DispersionModel("constant", {"value": 1.5}),
                           validity_um=(1.0, 0.4), temperature_c=20.0, reference=None)
+
+
+def test_thermo_optic_range_is_enforced_and_round_trips(tmp_path):
+    # YVO4's linear dn/dT is the secant of Shi et al.'s (2001) 20 °C and 50 °C fits (see the data
+    # file): inside that range the shift is dn/dT·ΔT without a warning, outside it warns with the
+    # range, strict mode raises, and save/load keeps the range.
+    import warnings as _warnings
+    from prismdesign import DispersionRangeWarning, load_material, material, save_material
+
+    yvo4 = material("yvo4")
+    assert yvo4.thermo_range_c == (20.0, 50.0)
+    with _warnings.catch_warnings():
+        _warnings.simplefilter("error")
+        shifted = yvo4.n_o(0.6, 35.0)
+    assert shifted - yvo4.n_o(0.6) == pytest.approx(1.67e-5 * 15.0, rel=1e-12)
+    with pytest.warns(DispersionRangeWarning, match=r"20-50 °C"):
+        yvo4.n_e(0.6, 100.0)
+    with pytest.raises(ValueError, match=r"temperature_c = 100 lies outside 20-50 °C"):
+        material("yvo4", strict=True).n_o(0.6, 100.0)
+    copy = load_material(save_material(yvo4, tmp_path / "yvo4_copy.toml"))
+    assert copy.thermo_range_c == (20.0, 50.0)
+
+
+def test_bad_thermo_optic_range_is_a_one_line_error(tmp_path):
+    from prismdesign import load_material
+
+    text = tmp_path / "caf2.toml"
+    source = (library._data_directory() / "caf2.toml").read_text(encoding="utf-8")
+    text.write_text(source.replace("temperature_range_c = [20.0, 25.0]",
+                                   "temperature_range_c = [25.0, 20.0]"), encoding="utf-8")
+    with pytest.raises(ValueError, match=r"temperature_range_c .*two increasing temperatures") as info:
+        load_material(text)
+    assert "\n" not in str(info.value)

@@ -117,6 +117,13 @@ def _warn(message: str, category) -> None:
     warnings.warn(message, category, stacklevel=level)
 
 
+def _plain(value):
+    """A user's value for a message: numpy scalars and small arrays as plain numbers."""
+    array = np.asarray(value, dtype=float)
+    return f"{float(array):g}" if array.ndim == 0 else (
+        str(array.tolist()) if array.size <= 6 else f"<array of shape {array.shape}>")
+
+
 def _as_result(value, scalar: bool):
     return float(value) if scalar else value
 
@@ -203,6 +210,14 @@ class _MaterialBase:
                              f"-273.15 °C")
         delta = t - self.temperature_c
         if dn_dt is not None:
+            span = self.thermo_range_c
+            if span is not None and np.any((t < span[0]) | (t > span[1])):
+                message = (f"{self.name}: temperature_c = {_plain(temperature_c)} lies outside "
+                           f"{span[0]:g}-{span[1]:g} °C, where its linear dn/dT was derived; "
+                           f"the shift is extrapolated")
+                if self.strict if strict is None else strict:
+                    raise ValueError(message)
+                _warn(message, DispersionRangeWarning)
             return dn_dt * delta
         if np.any(delta != 0.0):
             message = (f"{self.name}: no thermo-optic data; indices are for the data "
@@ -265,6 +280,9 @@ class IsotropicMaterial(_MaterialBase):
         Linear thermo-optic coefficient in 1/°C, if published.
     thermo_reference : str
         Source of the thermo-optic coefficient.
+    thermo_range_c : (float, float) or None
+        Temperatures (°C) over which the linear dn/dT was derived; outside it the shift warns
+        (raises in strict mode).
     strict : bool
         Raise instead of warn for wavelengths outside ``validity_um``.
     """
@@ -279,6 +297,7 @@ class IsotropicMaterial(_MaterialBase):
     notes: str = ""
     dn_dt_per_c: Optional[float] = None
     thermo_reference: str = ""
+    thermo_range_c: Optional[tuple] = None
     strict: bool = False
     _warned: set = field(default_factory=set, init=False, repr=False, compare=False, hash=False)
 
@@ -325,6 +344,7 @@ class UniaxialMaterial(_MaterialBase):
     optical_sign : {"positive", "negative"}
         Sign of n_e − n_o; checked against the data across the validity range.
     validity_um, temperature_c, reference, aliases, transparency_um, notes, thermo_reference,
+    thermo_range_c,
     strict
         As for :class:`IsotropicMaterial`.
     dn_dt_o_per_c, dn_dt_e_per_c : float or None
@@ -344,6 +364,7 @@ class UniaxialMaterial(_MaterialBase):
     dn_dt_o_per_c: Optional[float] = None
     dn_dt_e_per_c: Optional[float] = None
     thermo_reference: str = ""
+    thermo_range_c: Optional[tuple] = None
     strict: bool = False
     _warned: set = field(default_factory=set, init=False, repr=False, compare=False, hash=False)
 

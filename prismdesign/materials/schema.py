@@ -85,11 +85,21 @@ def _thermo(where, kind, table):
         _fail(where, "thermo_optic", table, "a table with model, dn/dT values and reference")
     where = f"{where} [thermo_optic]"
     keys = _THERMO_KEYS[kind]
-    _check_keys(where, table, {"model", "reference", *keys}, {"model", *keys})
+    _check_keys(where, table, {"model", "reference", "temperature_range_c", *keys},
+                {"model", *keys})
     if table["model"] != "linear":
         _fail(where, "model", table["model"], "'linear'")
     reference = _string(where, "reference", table.get("reference", ""))
-    return {k: _number(where, k, table[k]) for k in keys}, reference
+    values = {k: _number(where, k, table[k]) for k in keys}
+    if "temperature_range_c" in table:
+        span = table["temperature_range_c"]
+        if (not isinstance(span, list) or len(span) != 2
+                or not all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in span)
+                or not -273.15 <= span[0] < span[1] or not np.isfinite(span[1])):
+            _fail(where, "temperature_range_c", span, "two increasing temperatures in °C, "
+                  "e.g. [20.0, 50.0]")
+        values["thermo_range_c"] = (float(span[0]), float(span[1]))
+    return values, reference
 
 
 def material_from_dict(data: dict, where: str):
@@ -195,4 +205,6 @@ def material_to_dict(material) -> dict:
     if all(v is not None for v in dn_dt.values()):
         data["thermo_optic"] = {"model": "linear", **dn_dt,
                                 "reference": material.thermo_reference}
+        if material.thermo_range_c is not None:
+            data["thermo_optic"]["temperature_range_c"] = list(material.thermo_range_c)
     return data
