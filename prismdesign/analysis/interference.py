@@ -69,7 +69,8 @@ def _pair(prism, beams, wavelength_um):
     return beams
 
 
-def _trace_pair(prism, beams, wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm):
+def _trace_pair(prism, beams, wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm,
+                within_aperture=True):
     result = prism.trace(wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm=offset_mm,
                          polarisation=_DIAGONAL, power_threshold=0.0)
     for label in beams:
@@ -77,8 +78,12 @@ def _trace_pair(prism, beams, wavelength_um, in_plane_deg, out_of_plane_deg, off
             raise ValueError(f"beam {label!r} is not among the traced beams {sorted(result.beams)}")
     a, b = result.beams[beams[0]], result.beams[beams[1]]
     # A path difference is only meaningful for rays that really cross the prism: refuse rays
-    # outside a clear aperture, missing a surface or stopped by total internal reflection.
+    # outside a clear aperture, missing a surface or stopped by total internal reflection. The
+    # localisation plane only uses the (affine) geometry of the plane faces, so there rays
+    # clipped by an aperture edge still count (`within_aperture=False`).
     flags = np.bitwise_or(a.flags, b.flags)
+    if not within_aperture:
+        flags = flags & ~TraceFlag.OUTSIDE_APERTURE
     for bit, what in ((TraceFlag.OUTSIDE_APERTURE, "leave the clear aperture"),
                       (TraceFlag.MISSED_SURFACE, "miss a surface"),
                       (TraceFlag.TOTAL_INTERNAL_REFLECTION, "are totally reflected"),
@@ -287,7 +292,8 @@ def fringe_localisation(prism, wavelength_um=None, *, beams=None, in_plane_deg=0
     # Entry points along the prism's own x axis (it may be turned about z).
     turn = np.deg2rad(prism.rotation_deg)
     offsets = np.stack([x * np.cos(turn), x * np.sin(turn)], axis=-1)
-    a, b = _trace_pair(prism, beams, lam[..., None], in_plane_deg, out_of_plane_deg, offsets)
+    a, b = _trace_pair(prism, beams, lam[..., None], in_plane_deg, out_of_plane_deg, offsets,
+                       within_aperture=False)
     mid, gap, parallel = closest_approach(a.exit_position_mm, a.exit_direction,
                                           b.exit_position_mm, b.exit_direction, PARALLEL_LIMIT)
     at_inf = parallel.any(axis=-1)
