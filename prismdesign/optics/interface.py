@@ -188,12 +188,12 @@ def _solve_block(k_in, e_in, normal, n_o1, n_e1, c1, n_o2, n_e2, c2, layer, out,
     hy = q * fx - kappa * fz
     # Boundary system Σ t F_t − Σ r M F_r = M F_in with F = tangential (E₁, E₂, H₁, H₂): solved
     # for (t, −r) with the plain columns, so no sign flips or copies are needed.
-    cols = np.stack([fx, fy, hx, hy])                     # (component, wave, m)
-    rhs = np.stack(rhs)                                   # (component, m)
+    cols = (fx, fy, hx, hy)                               # rows: component; columns: wave
     if layer is not None:
         n_layer, wavelength_um, thickness_mm = layer
         m = np.moveaxis(layer_transfer_matrix(n_layer, kappa, wavelength_um, thickness_mm), 0, -1)
-        cols = cols.astype(complex)
+        cols = np.stack(cols).astype(complex)
+        rhs = np.stack(rhs)
         cols[:, 1::2] = np.einsum("ijm,jwm->iwm", m, cols[:, 1::2])
         rhs = np.einsum("ijm,jm->im", m, rhs)
     coefficient, singular = solve4_components(cols, rhs, equilibrate=layer is not None)

@@ -19,9 +19,10 @@ def solve4_components(a, b, equilibrate=True):
 
     Parameters
     ----------
-    a : ndarray, shape (4, 4, m)
-        a[i, j] is the batch of entries (i, j).
-    b : ndarray, shape (4, m)
+    a : ndarray of shape (4, 4, m), or a sequence of four rows each indexable by column
+        a[i][j] is the batch of entries (i, j); passing rows (e.g. four (4, m) arrays) avoids
+        stacking them first.
+    b : ndarray of shape (4, m), or a sequence of four (m,) arrays
     equilibrate : bool
         Scale columns and rows first. Callers whose entries are already of order one (unit
         fields) may skip it; the singularity test |det| < 1e-14 then assumes that scale.
@@ -41,6 +42,8 @@ def solve4_components(a, b, equilibrate=True):
     (2, 3).
     """
     if equilibrate:
+        a = np.asarray(a)
+        b = np.asarray(b)
         col_scale = 1.0 / np.maximum(np.max(_magnitude(a), axis=0), 1e-300)     # (4, m)
         a = a * col_scale[None, :, :]
         row_scale = 1.0 / np.maximum(np.max(_magnitude(a), axis=1), 1e-300)     # (4, m)
@@ -76,7 +79,11 @@ def solve4_components(a, b, equilibrate=True):
           + (-a30 * s3 + a31 * s1 - a32 * s0) * b2 + (a20 * s3 - a21 * s1 + a22 * s0) * b3)
     singular = ~(_magnitude(det) > 1e-14 * det_scale)
     inv_det = np.where(singular, 0.0, 1.0 / np.where(singular, 1.0, det))
-    x = np.stack([x0, x1, x2, x3]) * (inv_det * col_scale)
+    x = np.empty((4,) + np.shape(inv_det), dtype=np.result_type(x0, x1, x2, x3, inv_det))
+    for i, value in enumerate((x0, x1, x2, x3)):
+        # Unknown i was scaled by col_scale[i] when equilibrating.
+        np.multiply(value, inv_det if np.ndim(col_scale) == 0 else inv_det * col_scale[i],
+                    out=x[i])
     return x, singular
 
 
