@@ -275,3 +275,28 @@ def test_unexpected_failure_is_one_line_without_traceback(capsys, monkeypatch):
     assert code == 1 and out == ""
     assert "Traceback" not in err and len(err.strip().splitlines()) == 1
     assert "internal error (TypeError: something unforeseen)" in err
+
+
+def test_prism_in_another_medium():
+    # A mid-infrared CdSe Wollaston outside the standard-air data range (Ciddor 1996 covers
+    # 0.23–1.69 µm) is assessed in vacuum: no range warning, and with n_surround = 1 the exit
+    # angles follow Snell's law at the exit face directly (sin φ = n₂ sin γ).
+    import warnings as _warnings
+
+    import prismdesign as pd
+
+    prism = pd.prisms.wollaston("cdse", 10.0, design_wavelength_um=10.0).in_medium("vacuum")
+    with _warnings.catch_warnings():
+        _warnings.simplefilter("error")
+        split = pd.analysis.split(prism, 10.0)
+    cdse = pd.material("cdse")
+    n_o, n_e = cdse.n_o(10.0), cdse.n_e(10.0)
+    theta = np.deg2rad(10.0)
+
+    def exit_angle(n1, n2):
+        return np.arcsin(n2 * np.sin(np.arcsin(n1 * np.sin(theta) / n2) - theta))
+
+    expected = np.rad2deg(abs(exit_angle(n_e, n_o) - exit_angle(n_o, n_e)))
+    assert float(split.split_deg) == pytest.approx(expected, abs=1e-12)
+    with pytest.raises(ValueError, match="surround must be an isotropic material"):
+        prism.in_medium("calcite")

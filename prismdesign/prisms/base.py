@@ -277,6 +277,22 @@ class Prism:
         return replace(self, pieces=pieces, boundaries=boundaries,
                        rotation_deg=self.rotation_deg + float(angle_deg))
 
+    def in_medium(self, surround):
+        """The same prism in another surrounding medium (e.g. "vacuum" for a mid-infrared
+        design beyond the standard-air data, or an index-matching liquid).
+
+        Parameters
+        ----------
+        surround : str or material
+            Library name or material object; must be isotropic.
+        """
+        if isinstance(surround, str):
+            surround = library_material(surround)
+        if getattr(surround, "kind", None) != "isotropic" or not hasattr(surround, "indices"):
+            raise ValueError(f"surround must be an isotropic material (name or object), got "
+                             f"{_shown(getattr(surround, 'name', surround))}")
+        return replace(self, surround=surround)
+
     def shifted(self, dz_mm):
         """The same prism moved by `dz_mm` (mm) along z."""
         dz_mm = check_finite("dz_mm", dz_mm, "a finite distance in mm")
