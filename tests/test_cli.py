@@ -135,3 +135,22 @@ def test_demo_design_table_and_figures(capsys, tmp_path):
 
     expected = np.rad2deg(abs(exit_angle(n_e, n_o) - exit_angle(n_o, n_e)))
     assert printed_split == pytest.approx(expected, abs=1e-4)   # printed to 4 decimals
+
+
+def test_side_view_draws_the_rejected_beam_of_a_glan_prism(tmp_path):
+    # The drawing must show where the rejected beam goes (laser safety: it needs a beam dump);
+    # its label comes from trace_rejected, which is checked against Snell/Fresnel elsewhere.
+    import matplotlib
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    from prismdesign.output.drawing import draw_side_view
+    from prismdesign.prisms import glan_air_spaced, glan_cemented
+
+    for prism, words in ((glan_air_spaced(), "out of the side face"),
+                         (glan_cemented(), "trapped")):
+        fig, ax = plt.subplots()
+        draw_side_view(prism, 0.6328, ax=ax)
+        labels = [text.get_text() for text in ax.get_legend().get_texts()]
+        assert any(label.startswith("rejected") and words in label for label in labels)
+        plt.close(fig)

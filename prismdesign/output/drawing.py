@@ -1,6 +1,8 @@
 """Side view of a prism (section y = 0) with optic-axis marks and traced beams."""
 import numpy as np
 
+from ..optics import TraceFlag
+
 __all__ = ["draw_side_view", "BEAM_COLOURS", "beam_colour"]
 
 #: Colours for beams, in the order the beams are listed (our own plain palette).
@@ -93,12 +95,40 @@ def draw_side_view(prism, wavelength_um, ax=None, *, offsets_x_mm=None, in_plane
             z = np.append(positions[:, j, 2], end[0, j, 2])
             x = np.append(positions[:, j, 0], end[0, j, 0])
             ax.plot(z, x, color=colour, lw=1.1, label=label if j == 0 else None)
+    if prism.kind.startswith("glan"):
+        _draw_rejected(ax, prism, wavelength_um, in_plane_deg, length)
+    # Proxy entries explain the optic-axis marks.
+    ax.plot([], [], color="#333333", lw=1.2, label="optic axis (in the drawing)")
+    ax.plot([], [], "o", ms=3.5, color="#333333", label="optic axis (across it)")
     ax.set_xlabel("z (mm, along the beam)")
     ax.set_ylabel("x (mm, split direction)")
     ax.set_aspect("equal", adjustable="datalim")
     ax.grid(True, alpha=0.25)
-    ax.legend(title="beam (mode per crystal)", fontsize=8, title_fontsize=8,
+    ax.legend(title="beams (mode per crystal)", fontsize=8, title_fontsize=8,
               loc="upper left", bbox_to_anchor=(1.01, 1.0))
-    ax.set_title(title or f"{prism.kind} side view at {wavelength_um:g} µm "
-                 f"(lines: optic axis in the drawing; dots: axis across it)", fontsize=9)
+    ax.set_title(title or f"{prism.kind.capitalize()}, side view at {wavelength_um:g} µm",
+                 fontsize=9)
     return ax
+
+
+def _draw_rejected(ax, prism, wavelength_um, in_plane_deg, length_mm):
+    """Dashed path of a Glan prism's rejected beam, from the entrance to its exit face and on."""
+    from ..prisms import trace_rejected
+
+    rejected = trace_rejected(prism, wavelength_um, in_plane_deg)
+    # Unpolarised traces carry a leading incoherent pair; both members share the geometry.
+    positions = rejected.result.beams[rejected.label].positions_mm
+    points = positions[:, 0] if rejected.result.incoherent_pair else positions
+    exit_point = np.reshape(rejected.exit_position_mm, (-1, 3))[0]
+    exit_direction = np.reshape(rejected.exit_direction, (-1, 3))[0]
+    trapped = bool(np.any(np.asarray(rejected.flags) & TraceFlag.TOTAL_INTERNAL_REFLECTION))
+    if trapped:
+        # Totally reflected again at the face it meets: drawn up to that face only.
+        z, x = points[:, 2], points[:, 0]
+        label = f"rejected ({rejected.label}, trapped: totally reflected at the {rejected.exit_face})"
+    else:
+        end = exit_point + length_mm * exit_direction
+        z = np.append(points[:, 2], end[2])
+        x = np.append(points[:, 0], end[0])
+        label = f"rejected ({rejected.label}, out of the {rejected.exit_face})"
+    ax.plot(z, x, ls="--", color="#7f8c8d", lw=1.1, label=label)
