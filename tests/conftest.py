@@ -3,8 +3,8 @@ import os
 
 from hypothesis import settings
 
-# CI runs the property tests with a fixed seed so that a submission's result does not depend on
-# the draw; local runs keep exploring new examples (and store failures in .hypothesis/).
+# CI runs the property tests derandomized so that a submission's result does not depend on the
+# random draw; local runs keep exploring new examples (and store failures in .hypothesis/).
 settings.register_profile("ci", derandomize=True, print_blob=True)
 if os.environ.get("CI"):
     settings.load_profile("ci")

