@@ -14,6 +14,7 @@ from hypothesis import strategies as st
 import prismdesign
 from prismdesign.analysis import split, split_angle_deg, wollaston_small_angle_split_deg
 from prismdesign.prisms import wollaston
+from closed_forms import wollaston_exit_angle_rad
 
 BAND_UM = np.linspace(0.4, 1.6, 7)   # inside the validity of both calcite and air data
 
@@ -38,11 +39,9 @@ def _exact_wollaston(wavelength_um, wedge_angle_deg):
     n_o, n_e, n_air = _indices(wavelength_um)
     theta = np.deg2rad(wedge_angle_deg)
 
-    def exit_angle(n1, n2):
-        inside = np.arcsin(n1 / n2 * np.sin(theta))
-        return np.arcsin(n2 * np.sin(theta - inside) / n_air)
-
-    return exit_angle(n_e, n_o), exit_angle(n_o, n_e)
+    # Sign convention of this test: positive toward +x for the "eo" beam.
+    return (-wollaston_exit_angle_rad(n_e, n_o, theta, n_air),
+            -wollaston_exit_angle_rad(n_o, n_e, theta, n_air))
 
 
 @pytest.mark.parametrize("wedge_angle_deg", [5.0, 15.0, 30.0])

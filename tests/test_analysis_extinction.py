@@ -11,17 +11,8 @@ import pytest
 import prismdesign
 from prismdesign.analysis import extinction, perturb_axes
 from prismdesign.prisms import Boundary, Piece, Prism, wollaston
+from closed_forms import fresnel_transmittance
 
-
-def fresnel_transmittance(n1, n2, incidence_rad, polarisation):
-    """1 − R (Born & Wolf, 1999, §1.5.2)."""
-    cos_i = np.cos(incidence_rad)
-    cos_t = np.sqrt(1.0 - (n1 * np.sin(incidence_rad) / n2) ** 2)
-    if polarisation == "s":
-        r = (n1 * cos_i - n2 * cos_t) / (n1 * cos_i + n2 * cos_t)
-    else:
-        r = (n2 * cos_i - n1 * cos_t) / (n2 * cos_i + n1 * cos_t)
-    return 1.0 - r ** 2
 
 
 def test_perfect_axes_leak_below_1e_12():

@@ -10,19 +10,10 @@ import pytest
 import prismdesign
 from prismdesign.analysis import transmission
 from prismdesign.prisms import wollaston
+from closed_forms import fresnel_transmittance
 
 BAND_UM = np.linspace(0.4, 1.6, 7)
 
-
-def fresnel_transmittance(n1, n2, incidence_rad, polarisation):
-    """1 − R for a plane wave from index n1 into n2 (Born & Wolf, 1999, §1.5.2)."""
-    cos_i = np.cos(incidence_rad)
-    cos_t = np.sqrt(1.0 - (n1 * np.sin(incidence_rad) / n2) ** 2)
-    if polarisation == "s":
-        r = (n1 * cos_i - n2 * cos_t) / (n1 * cos_i + n2 * cos_t)
-    else:
-        r = (n2 * cos_i - n1 * cos_t) / (n2 * cos_i + n1 * cos_t)
-    return 1.0 - r ** 2
 
 
 @pytest.mark.parametrize("wedge_angle_deg", [15.0, 30.0])

@@ -4,6 +4,7 @@ import pytest
 
 from prismdesign import material, materials
 from prismdesign.cli import main
+from closed_forms import wollaston_exit_angle_rad
 
 
 def run(capsys, *argv):
@@ -129,11 +130,8 @@ def test_demo_design_table_and_figures(capsys, tmp_path):
     n_o, n_e, n_air = calcite.n_o(0.9), calcite.n_e(0.9), air.n(0.9)
     theta = np.deg2rad(DEMO_SETUP["wedge_angle_deg"])
 
-    def exit_angle(n1, n2):
-        inside = np.arcsin(n1 * np.sin(theta) / n2) - theta
-        return np.arcsin(n2 * np.sin(inside) / n_air)
-
-    expected = np.rad2deg(abs(exit_angle(n_e, n_o) - exit_angle(n_o, n_e)))
+    expected = np.rad2deg(abs(wollaston_exit_angle_rad(n_e, n_o, theta, n_air)
+                              - wollaston_exit_angle_rad(n_o, n_e, theta, n_air)))
     assert printed_split == pytest.approx(expected, abs=1e-4)   # printed to 4 decimals
 
 

@@ -18,6 +18,7 @@ from hypothesis import strategies as st
 from prismdesign.optics import plane_wave_modes, solve_interface
 from prismdesign.optics.eigenmodes import DEGENERATE_AXIS_TOLERANCE, extraordinary_index_rad, mode_fields
 from prismdesign.optics.vectors import dot
+from closed_forms import sphere
 
 ENERGY_TOL = 1e-12
 
@@ -26,8 +27,6 @@ index = st.floats(1.0, 2.6)
 complex_pair = st.tuples(*[st.floats(-1.0, 1.0)] * 4)
 
 
-def sphere(polar, azimuth):
-    return np.array([np.sin(polar) * np.cos(azimuth), np.sin(polar) * np.sin(azimuth), np.cos(polar)])
 
 
 def frame(normal):

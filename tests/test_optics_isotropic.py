@@ -32,6 +32,7 @@ from hypothesis import strategies as st
 
 from prismdesign.optics import (FixedIndices, Medium, SequentialSystem, Surface, ThinLayer,
                                 solve_interface, trace)
+from closed_forms import sphere
 
 Z = np.array([0.0, 0.0, 1.0])
 
@@ -87,8 +88,6 @@ amplitude = st.tuples(*[st.floats(-1.0, 1.0)] * 4).filter(lambda a: np.linalg.no
 axis_angles = st.tuples(st.floats(0.0, np.pi), st.floats(0.0, 2 * np.pi))
 
 
-def sphere(polar, azimuth):
-    return np.array([np.sin(polar) * np.cos(azimuth), np.sin(polar) * np.sin(azimuth), np.cos(polar)])
 
 
 @settings(max_examples=200, deadline=None)

@@ -20,13 +20,12 @@ from hypothesis import strategies as st
 
 from prismdesign.optics import (CircularAperture, FixedIndices, Medium, SequentialSystem, Surface,
                                 TraceFlag, trace)
+from closed_forms import sphere
 
 Z = np.array([0.0, 0.0, 1.0])
 AIR = Medium(FixedIndices(1.0))
 
 
-def sphere(polar, azimuth):
-    return np.array([np.sin(polar) * np.cos(azimuth), np.sin(polar) * np.sin(azimuth), np.cos(polar)])
 
 
 def slab(n_env, n_o, n_e, axis, normal, thickness_mm, origin=(0.0, 0.0, 5.0)):

@@ -30,6 +30,7 @@ from hypothesis import strategies as st
 
 from prismdesign.optics import plane_wave_modes, solve_interface
 from prismdesign.optics.eigenmodes import extraordinary_index_rad, mode_fields
+from closed_forms import sphere
 
 Z = np.array([0.0, 0.0, 1.0])
 index = st.floats(1.0, 2.6)
@@ -37,8 +38,6 @@ angle = st.floats(0.0, np.deg2rad(89.0))
 unit_angles = st.tuples(st.floats(0.0, np.pi), st.floats(0.0, 2.0 * np.pi))
 
 
-def sphere(polar, azimuth):
-    return np.array([np.sin(polar) * np.cos(azimuth), np.sin(polar) * np.sin(azimuth), np.cos(polar)])
 
 
 def csqrt(x):

@@ -284,6 +284,7 @@ def test_prism_in_another_medium():
     import warnings as _warnings
 
     import prismdesign as pd
+    from closed_forms import wollaston_exit_angle_rad
 
     prism = pd.prisms.wollaston("cdse", 10.0, design_wavelength_um=10.0).in_medium("vacuum")
     with _warnings.catch_warnings():
@@ -293,10 +294,8 @@ def test_prism_in_another_medium():
     n_o, n_e = cdse.n_o(10.0), cdse.n_e(10.0)
     theta = np.deg2rad(10.0)
 
-    def exit_angle(n1, n2):
-        return np.arcsin(n2 * np.sin(np.arcsin(n1 * np.sin(theta) / n2) - theta))
-
-    expected = np.rad2deg(abs(exit_angle(n_e, n_o) - exit_angle(n_o, n_e)))
+    expected = np.rad2deg(abs(wollaston_exit_angle_rad(n_e, n_o, theta, 1.0)
+                              - wollaston_exit_angle_rad(n_o, n_e, theta, 1.0)))
     assert float(split.split_deg) == pytest.approx(expected, abs=1e-12)
     with pytest.raises(ValueError, match="surround must be an isotropic material"):
         prism.in_medium("calcite")
