@@ -309,3 +309,14 @@ def test_reciprocity_of_power_coefficients(normal_angles, tilt, azim, axes, n, i
     assert np.allclose(rev.wave_vector[j_back].real, -k_a, atol=1e-12)
     assert not rev.evanescent[j_back]
     assert abs(rev.power_fraction[j_back] - fwd.power_fraction[j_out]) <= 1e-12
+
+
+def test_public_extraordinary_index_takes_degrees():
+    # Born & Wolf §15.3.3: 1/n(θ)² = cos²θ/n_o² + sin²θ/n_e²; n(0°) = n_o, n(90°) = n_e, and at
+    # 45° n = √2 n_o n_e / √(n_o² + n_e²).
+    from prismdesign import extraordinary_index
+
+    n_o, n_e = 1.6557, 1.4849
+    values = extraordinary_index(np.array([0.0, 45.0, 90.0]), n_o, n_e)
+    expected = [n_o, np.sqrt(2.0) * n_o * n_e / np.sqrt(n_o ** 2 + n_e ** 2), n_e]
+    np.testing.assert_allclose(values, expected, rtol=1e-15)

@@ -7,6 +7,8 @@ the arrays the analyses broadcast over.
 """
 import numpy as np
 
+from .._display import plain, shown
+
 from ..optics import Beam
 from ..prisms.base import check_finite
 
@@ -16,39 +18,11 @@ __all__ = ["as_output", "check_polarisation", "strip_pair", "rank_beams", "check
            "check_ray_inputs"]
 
 #: Arrays up to this size are shown in full in error messages; larger ones by shape.
-_SHOWN_SIZE = 8
 
 
 def as_output(value):
     """Scalar in, scalar out: a 0-d array becomes a numpy scalar, other arrays stay arrays."""
     return np.asarray(value)[()]
-
-
-def plain(value):
-    """A numpy scalar or 0-d array as the Python number it holds; anything else unchanged.
-
-    Lets the scalar checks of :mod:`prismdesign.prisms.base` show ``-1.0`` rather than
-    ``np.float64(-1.0)`` (and still refuse a numpy boolean, which becomes a Python bool).
-    """
-    if isinstance(value, np.generic) or (isinstance(value, np.ndarray) and value.ndim == 0):
-        return value.item()
-    return value
-
-
-def shown(value):
-    """Plain text of a value for an error message: numbers as numbers, small arrays as lists."""
-    value = plain(value)
-    if isinstance(value, (list, tuple, np.ndarray)):
-        try:
-            array = np.asarray(value)
-        except (TypeError, ValueError):
-            array = None
-        if array is not None and array.dtype.kind in "biufc":
-            if array.size > _SHOWN_SIZE:
-                return f"an array of shape {array.shape}"
-            value = array.tolist()
-    text = repr(value)
-    return text if len(text) <= 80 else text[:77] + "..."
 
 
 def check_numbers(name, value, allowed, valid=None):

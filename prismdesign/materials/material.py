@@ -14,6 +14,7 @@ from typing import Optional
 
 import numpy as np
 
+from .._display import shown
 from .registry import FORMULAS, check_coefficients
 
 __all__ = [
@@ -117,13 +118,6 @@ def _warn(message: str, category) -> None:
     warnings.warn(message, category, stacklevel=level)
 
 
-def _plain(value):
-    """A user's value for a message: numpy scalars and small arrays as plain numbers."""
-    array = np.asarray(value, dtype=float)
-    return f"{float(array):g}" if array.ndim == 0 else (
-        str(array.tolist()) if array.size <= 6 else f"<array of shape {array.shape}>")
-
-
 def _as_result(value, scalar: bool):
     return float(value) if scalar else value
 
@@ -212,7 +206,7 @@ class _MaterialBase:
         if dn_dt is not None:
             span = self.thermo_range_c
             if span is not None and np.any((t < span[0]) | (t > span[1])):
-                message = (f"{self.name}: temperature_c = {_plain(temperature_c)} lies outside "
+                message = (f"{self.name}: temperature_c = {shown(temperature_c)} lies outside "
                            f"{span[0]:g}-{span[1]:g} °C, where its linear dn/dT was derived; "
                            f"the shift is extrapolated")
                 if self.strict if strict is None else strict:

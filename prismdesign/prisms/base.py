@@ -9,6 +9,7 @@ from dataclasses import dataclass, field, replace
 
 import numpy as np
 
+from .._display import shown
 from ..materials import material as library_material
 from ..optics import (FixedIndices, Medium, RectangularAperture, SequentialSystem, Surface,
                       ThinLayer, direction_from_angles, trace)
@@ -19,32 +20,23 @@ __all__ = ["Piece", "Boundary", "Prism", "ideal_antireflection_layer", "check_po
            "trace_from_front"]
 
 
-def _shown(value):
-    """A value as users wrote it: numpy scalars and small arrays as plain Python numbers."""
-    if isinstance(value, np.generic):
-        value = value.item()
-    elif isinstance(value, np.ndarray):
-        value = value.tolist() if value.size <= 6 else f"<array of shape {value.shape}>"
-    return repr(value)
-
-
 def _as_float(name, value, what):
     """float(value), refusing text and booleans (a typo should not become a number)."""
     if isinstance(value, (str, bytes)):
-        raise ValueError(f"{name} must be {what}, not text: got {_shown(value)}")
+        raise ValueError(f"{name} must be {what}, not text: got {shown(value)}")
     if isinstance(value, (bool, np.bool_)):
-        raise ValueError(f"{name} must be {what}, got the boolean {_shown(value)}")
+        raise ValueError(f"{name} must be {what}, got the boolean {shown(value)}")
     try:
         return float(value)
     except (TypeError, ValueError):
-        raise ValueError(f"{name} must be {what}, got {_shown(value)}") from None
+        raise ValueError(f"{name} must be {what}, got {shown(value)}") from None
 
 
 def check_positive(name, value):
     """Return float(value) or fail with a one-line message if it is not positive and finite."""
     v = _as_float(name, value, "a positive number")
     if not (np.isfinite(v) and v > 0):
-        raise ValueError(f"{name} must be a positive number, got {_shown(value)}")
+        raise ValueError(f"{name} must be a positive number, got {shown(value)}")
     return v
 
 
@@ -52,7 +44,7 @@ def check_angle(name, value, low, high):
     """Return float(value) or fail with a one-line message if it is outside (low, high) degrees."""
     v = _as_float(name, value, "an angle in degrees")
     if not (np.isfinite(v) and low < v < high):
-        raise ValueError(f"{name} must lie between {low:g} and {high:g} degrees, got {_shown(value)}")
+        raise ValueError(f"{name} must lie between {low:g} and {high:g} degrees, got {shown(value)}")
     return v
 
 
@@ -60,7 +52,7 @@ def check_finite(name, value, what="a finite number"):
     """Return float(value) or fail with a one-line message if it is not a finite number."""
     v = _as_float(name, value, what)
     if not np.isfinite(v):
-        raise ValueError(f"{name} must be {what}, got {_shown(value)}")
+        raise ValueError(f"{name} must be {what}, got {shown(value)}")
     return v
 
 
@@ -72,16 +64,16 @@ def check_angles(name, value):
         angles = np.asarray(value, dtype=float)
     except (TypeError, ValueError):
         raise ValueError(f"{name} must be an angle in degrees or an array of angles, got "
-                         f"{_shown(value)}") from None
+                         f"{shown(value)}") from None
     if not np.all(np.isfinite(angles)):
-        raise ValueError(f"{name} must be finite (degrees), got {_shown(value)}")
+        raise ValueError(f"{name} must be finite (degrees), got {shown(value)}")
     return angles
 
 
 def check_flag(name, value):
     """Return bool(value) for a true/false switch, refusing anything else in one line."""
     if not isinstance(value, (bool, np.bool_)):
-        raise ValueError(f"{name} must be True or False, got {_shown(value)}")
+        raise ValueError(f"{name} must be True or False, got {shown(value)}")
     return bool(value)
 
 
@@ -290,7 +282,7 @@ class Prism:
             surround = library_material(surround)
         if getattr(surround, "kind", None) != "isotropic" or not hasattr(surround, "indices"):
             raise ValueError(f"surround must be an isotropic material (name or object), got "
-                             f"{_shown(getattr(surround, 'name', surround))}")
+                             f"{shown(getattr(surround, 'name', surround))}")
         return replace(self, surround=surround)
 
     def shifted(self, dz_mm):

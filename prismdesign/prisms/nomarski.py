@@ -191,10 +191,15 @@ def _solve_tilt(build, target):
     # but may jump through infinity where the two exit rays become parallel.
     grid = np.arange(0.0, 88.0, 2.0)
     values = {}
+
+    def cached(tilt_deg):
+        if tilt_deg not in values:
+            values[tilt_deg] = miss(tilt_deg)
+        return values[tilt_deg]
+
     for a, b in zip(grid[:-1], grid[1:]):
         for lo, hi in ((a, b), (-b, -a)):
-            f_lo = values.setdefault(lo, miss(lo))
-            f_hi = values.setdefault(hi, miss(hi))
+            f_lo, f_hi = cached(lo), cached(hi)
             if np.isfinite(f_lo) and np.isfinite(f_hi) and f_lo * f_hi <= 0:
                 root = brentq(miss, lo, hi, xtol=1e-12, rtol=1e-14)
                 # A bracket across a pole (exit rays parallel) is not a root.
