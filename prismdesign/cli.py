@@ -1,4 +1,4 @@
-"""Command line: ``prismdesign materials | index NAME | demo``.
+"""Command line: ``prismdesign materials | index NAME | demo | design``.
 
 A thin shell over the public API: it parses arguments, calls the library and formats text.
 Errors from the library become one line on stderr and exit code 2; warnings (for example a
@@ -125,6 +125,8 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--out", default="prismdesign-demo", metavar="DIR",
                    help="folder for the demo's figures and tables (default prismdesign-demo)")
     p.set_defaults(run=_demo_command)
+    from .cli_design import add_design_parser
+    add_design_parser(sub)
     return parser
 
 
