@@ -84,14 +84,10 @@ class Family:
         values = dict(zip((p.name for p in self.parameters), (float(v) for v in values)))
         return self._build(crystal, values, requirement)
 
-    def bounds(self, requirement=None):
-        """(lows, highs) of the free parameters; a length bound shrinks to the allowed length."""
-        lows = [p.low for p in self.parameters]
-        highs = [p.high for p in self.parameters]
-        if requirement is not None and requirement.max_length_mm is not None:
-            highs = [min(h, 1.5 * requirement.max_length_mm) if p.name.endswith("_mm") else h
-                     for p, h in zip(self.parameters, highs)]
-        return np.array(lows), np.array(highs)
+    def bounds(self):
+        """(lows, highs) of the free parameters as float arrays, in their units."""
+        return (np.array([p.low for p in self.parameters]),
+                np.array([p.high for p in self.parameters]))
 
 
 def design_wavelength_um(requirement):

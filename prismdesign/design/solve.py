@@ -88,8 +88,9 @@ class Design:
 class _Model:
     """Builds and traces candidates, counting evaluations and remembering the last figures."""
 
-    def __init__(self, fam, crystal, requirement, solve_requirement):
+    def __init__(self, fam, crystal, requirement, solve_requirement, bounds=None):
         self.family, self.crystal = fam, crystal
+        self.bounds = bounds if bounds is not None else fam.bounds()
         self.requirement, self.solve_requirement = requirement, solve_requirement
         self.count = 0
         self._cache = {}
@@ -128,7 +129,7 @@ def _solve_one(model, norm):
     """One free parameter: scan for a bracket, then a root (or a bounded minimum for rms)."""
     req = model.requirement
     target = req.target_value
-    (low,), (high,) = model.family.bounds()
+    (low,), (high,) = model.bounds
     reduce_norm = "minimax" if norm == "rms" else norm
     name = model.family.parameters[0].name
 
@@ -159,7 +160,7 @@ def _solve_one(model, norm):
 
 def _bracket_near(miss, guess, low, high, factor=1.25, steps=6):
     """A sign-changing bracket grown geometrically from a first-order `guess`, or None."""
-    if guess is None:
+    if guess is None or not low < guess < high:
         return None
     a = guess
     fa = miss(a)
@@ -221,7 +222,7 @@ def _unreachable(model, grid, g, norm, target):
 
 def _solve_two(model, start, residuals, method):
     """Two free parameters by bounded least squares from `start`."""
-    lows, highs = model.family.bounds()
+    lows, highs = model.bounds
     start = np.clip(start, lows + 1e-9, highs - 1e-9)
 
     def fun(x):
@@ -267,6 +268,9 @@ def thin_prism_pair(first, second, wavelength_um, split_deg):
     target = np.deg2rad(split_deg) * np.sign(np.mean(dn[0]))
     matrix = np.stack(dn, axis=-1)
     (t1, t2), *_ = np.linalg.lstsq(matrix, np.full(lam.shape, target), rcond=None)
+    if t1 < 0:
+        # Turning both prisms over reverses the split, not its size: keep the first upright.
+        t1, t2 = -t1, -t2
     model = np.rad2deg(np.abs(matrix @ np.array([t1, t2])))
     return (float(np.rad2deg(np.arctan(t1))), float(np.rad2deg(np.arctan(t2))),
             float(model.max() - model.min()))
@@ -294,7 +298,10 @@ def _glan_cut(fam, crystal, requirement):
         return float(np.max(t_o)), float(np.min(t_e))
 
     lo0, hi0 = limits(0.0)
-    if not np.isfinite(lo0) or lo0 >= hi0:
+    if not np.isfinite(lo0):
+        return None, count, (f"the o beam cannot be totally reflected at the {gap} gap (its "
+                             f"index is not above the gap's somewhere in the band)")
+    if lo0 >= hi0:
         return None, count, (f"no cut angle polarises over the whole band on axis: the o beam "
                              f"needs a cut >= {lo0:.4g}°, the e beam < {hi0:.4g}°")
 
@@ -319,7 +326,7 @@ def _solve_nomarski(model, norm):
     fixed = Family("nomarski", ("split",), model.family.parameters, 1, "fixed tilt",
                    lambda c, v, r: prisms.nomarski(c, v["wedge_angle_deg"],
                                                    axis_tilt_deg=tilt[0], **size))
-    inner = _Model(fixed, model.crystal, req, model.solve_requirement)
+    inner = _Model(fixed, model.crystal, req, model.solve_requirement, model.bounds)
     values, method = None, ""
     for _ in range(6):
         inner._cache.clear()
@@ -339,7 +346,34 @@ def _solve_nomarski(model, norm):
     return values, f"{method}; axis tilt {tilt[0]:.6g}° for the fringe plane (alternated)"
 
 
-def solve(prism_type, crystal, requirement):
+def _check_bounds(fam, bounds):
+    """(lows, highs) from the family's limits narrowed by user `bounds`, or a one-line error."""
+    lows, highs = fam.bounds()
+    if bounds is None:
+        return lows, highs
+    if not isinstance(bounds, dict):
+        raise ValueError(f"bounds must be a dict of parameter name to (low, high), got "
+                         f"{bounds!r:.60}")
+    names = [p.name for p in fam.parameters]
+    for name, pair in bounds.items():
+        if name not in names:
+            raise ValueError(f"bounds: a {fam.name} has free parameters {', '.join(names)}, "
+                             f"got {name!r}")
+        i = names.index(name)
+        try:
+            low, high = (float(v) for v in pair)
+        except (TypeError, ValueError):
+            raise ValueError(f"bounds[{name!r}] must be (low, high) numbers, got {pair!r}") \
+                from None
+        if not (np.isfinite(low) and np.isfinite(high) and fam.parameters[i].low <= low < high
+                <= fam.parameters[i].high):
+            raise ValueError(f"bounds[{name!r}] must satisfy {fam.parameters[i].low:g} <= low "
+                             f"< high <= {fam.parameters[i].high:g}, got {pair!r}")
+        lows[i], highs[i] = low, high
+    return lows, highs
+
+
+def solve(prism_type, crystal, requirement, *, bounds=None):
     """Solve one prism type in one crystal (or pair) for a requirement.
 
     Parameters
@@ -349,6 +383,8 @@ def solve(prism_type, crystal, requirement):
     crystal : str or (str, str)
         Library crystal name; a pair for two-crystal types.
     requirement : Requirement
+    bounds : dict[str, (float, float)], optional
+        Narrower bounds for free parameters (name to (low, high), in their units).
 
     Returns
     -------
@@ -374,10 +410,11 @@ def solve(prism_type, crystal, requirement):
         raise ValueError(f"a {fam.name} takes {fam.crystals} crystal name(s), got {crystal!r}")
     crystal = crystals[0] if fam.crystals == 1 else crystals
     norm = requirement.band_norm
+    limits = _check_bounds(fam, bounds)
     if kind == "polariser":
         return _finish_glan(fam, crystal, requirement)
     solve_req = replace(requirement, field_half_angle_deg=None, max_leakage=None)
-    model = _Model(fam, crystal, requirement, solve_req)
+    model = _Model(fam, crystal, requirement, solve_req, limits)
     target = requirement.target_value
     message = ""
     if fam.name == "nomarski":
@@ -389,7 +426,8 @@ def solve(prism_type, crystal, requirement):
             model, np.array([t1, t2]), lambda x: model.target(x) - target,
             "split over the band fitted to the target from the thin-prism estimate")
     elif fam.name == "wollaston_unequal":
-        sym = _Model(family_named("wollaston"), crystal, requirement, solve_req)
+        sym = _Model(family_named("wollaston"), crystal, requirement, solve_req,
+                     (limits[0][:1], limits[1][:1]))
         start, _ = _solve_one(sym, norm)
         model.count += sym.count
         if start is None:
