@@ -68,6 +68,8 @@ def add_design_parser(sub):
         p.add_argument(option, dest=field, type=kind, default=None, help=text)
     p.add_argument("--polariser", action="store_true", default=None,
                    help="target: a polariser (Glan types); pair with --field-deg/--max-leakage")
+    p.add_argument("--coated", action="store_true", default=None,
+                   help="outer faces antireflection coated (ideal single layer)")
     p.add_argument("--undeviated", dest="undeviated_polarisation",
                    choices=("in_plane", "across"), help="Rochon types: polarisation of the "
                                                          "undeviated beam")
@@ -97,7 +99,7 @@ def _requirement(args):
             values[field] = getattr(args, field)
             if field == "split_mrad":
                 values.pop("split_deg", None)
-    for field in ("polariser", "undeviated_polarisation", "crystals", "prism_types",
+    for field in ("polariser", "coated", "undeviated_polarisation", "crystals", "prism_types",
                   "band_norm"):
         if getattr(args, field) is not None:
             values[field] = getattr(args, field)

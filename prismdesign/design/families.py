@@ -5,7 +5,7 @@ and the requirement (aperture, design wavelength, localisation distance) into a
 :class:`~prismdesign.prisms.Prism`. The solvers vary only the free parameters; everything
 else comes from the requirement. Families are looked up by plain names in :data:`FAMILIES`.
 """
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -98,7 +98,8 @@ def design_wavelength_um(requirement):
 
 def _size(requirement):
     a = requirement.clear_aperture_mm
-    return dict(width_mm=a, height_mm=a, design_wavelength_um=design_wavelength_um(requirement))
+    return dict(width_mm=a, height_mm=a, design_wavelength_um=design_wavelength_um(requirement),
+                coated=requirement.coated)
 
 
 def _wollaston(crystal, v, req):
@@ -130,7 +131,8 @@ def _nomarski(crystal, v, req):
 def _displacer(crystal, v, req):
     a = req.clear_aperture_mm
     return prisms.walkoff_displacer(crystal, v["length_mm"], width_mm=a, height_mm=a,
-                                    design_wavelength_um=design_wavelength_um(req))
+                                    design_wavelength_um=design_wavelength_um(req),
+                                    coated=req.coated)
 
 
 def _savart(crystal, v, req):
@@ -149,12 +151,19 @@ def _paired_wollaston(crystals, v, req):
     """Two Wollaston prisms of different crystals in series, the second turned 180° about z
     when its wedge angle is negative (its split then subtracts)."""
     first, second = crystals
-    size = _size(req)
+    size = dict(_size(req), coated=False)
     a = prisms.wollaston(first, v["first_wedge_deg"], **size)
     b_angle = v["second_wedge_deg"]
     b = prisms.wollaston(second, abs(b_angle), **size)
-    return prisms.in_series(a, b, spacing_mm=0.5, rotation_deg=180.0 if b_angle < 0 else 0.0,
+    pair = prisms.in_series(a, b, spacing_mm=0.5, rotation_deg=180.0 if b_angle < 0 else 0.0,
                             kind="two-crystal Wollaston")
+    if not req.coated:
+        return pair
+    # The model's ideal coating goes on the two outer faces only; the faces across the
+    # 0.5 mm air space between the prisms stay bare.
+    faces = list(pair.boundaries)
+    faces[0], faces[-1] = (replace(faces[0], coated=True), replace(faces[-1], coated=True))
+    return replace(pair, boundaries=faces)
 
 
 def _birefringence(crystal, requirement):

@@ -147,6 +147,9 @@ class Requirement:
     temperature_range_c : (float, float), optional
         Operating temperature range (°C), for temperature-flat designs where thermo-optic
         data exist.
+    coated : bool
+        The outer faces carry an antireflection coating (modelled as an ideal single layer
+        for the middle of the band); default uncoated.
     crystals : sequence of str, optional
         Allowed crystals (library names); default every suitable crystal.
     prism_types : sequence of str, optional
@@ -182,6 +185,7 @@ class Requirement:
     max_leakage: float | None = None
     min_transmission: float | None = None
     temperature_range_c: tuple | None = None
+    coated: bool = False
     crystals: tuple | None = None
     prism_types: tuple | None = None
     band_norm: str = "minimax"
@@ -225,9 +229,10 @@ class Requirement:
                                                low=0.0, high=1.0, low_open=False))
         put(self, "temperature_range_c", _pair("temperature_range_c", self.temperature_range_c,
                                                low=-273.15))
-        if not isinstance(self.polariser, (bool, np.bool_)):
-            raise ValueError(f"polariser must be true or false, got {shown(self.polariser)}")
-        put(self, "polariser", bool(self.polariser))
+        for name in ("polariser", "coated"):
+            if not isinstance(getattr(self, name), (bool, np.bool_)):
+                raise ValueError(f"{name} must be true or false, got {shown(getattr(self, name))}")
+            put(self, name, bool(getattr(self, name)))
         if self.undeviated_polarisation not in (None,) + UNDEVIATED_POLARISATIONS:
             raise ValueError(f"undeviated_polarisation must be one of "
                              f"{', '.join(UNDEVIATED_POLARISATIONS)} or None, got "

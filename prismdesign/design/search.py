@@ -103,7 +103,7 @@ class Ranking:
         """The ranked table as plain text, with the requirement and what was skipped."""
         req = self.requirement
         out = ["Requirement: " + "; ".join(req.describe())]
-        header = (f"{'#':>2}  {'type':<22}{'crystal':<27}{'parameters':<52}{'meets':<6}"
+        header = (f"{'#':>2}  {'type':<22}{'crystal':<27}{'parameters':<56}{'meets':<6}"
                   f"{'length mm':>10}{'T min':>8}  limited by / misses")
         out += [header, "-" * len(header)]
         for row in self.rows():
@@ -116,7 +116,7 @@ class Ranking:
             else:
                 note = "; ".join(row["failing"]) or row["message"]
             out.append(f"{row['rank']:>2}  {row['prism_type']:<22}{row['crystal']:<27}"
-                       f"{params:<52}{'yes' if row['meets'] else 'no':<6}{length:>10}"
+                       f"{params:<56}{'yes' if row['meets'] else 'no':<6}{length:>10}"
                        f"{trans:>8}  {note}")
         if not any(d.meets for d in self.designs):
             out.append("No design meets every requirement; the closest is first.")

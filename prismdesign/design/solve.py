@@ -321,7 +321,7 @@ def _solve_nomarski(model, norm):
     """Wedge for the split with the tilt solved for the fringe plane, alternated to agree."""
     req = model.requirement
     size = dict(width_mm=req.clear_aperture_mm, height_mm=req.clear_aperture_mm,
-                design_wavelength_um=design_wavelength_um(req))
+                design_wavelength_um=design_wavelength_um(req), coated=req.coated)
     tilt = [0.0]
     fixed = Family("nomarski", ("split",), model.family.parameters, 1, "fixed tilt",
                    lambda c, v, r: prisms.nomarski(c, v["wedge_angle_deg"],
