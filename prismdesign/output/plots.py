@@ -172,6 +172,8 @@ def plot_angle_maps(in_plane_deg, out_of_plane_deg, panels, path, *, label, titl
     from matplotlib.lines import Line2D
 
     panels = list(panels)
+    # Arrows on the colour bar only when a given range may cut values off.
+    extend = "neither" if value_range is None else "both"
     if value_range is None:
         finite = np.concatenate([np.ravel(v)[np.isfinite(np.ravel(v))] for v, _, _ in panels])
         value_range = (float(finite.min()), float(finite.max())) if finite.size else (0.0, 1.0)
@@ -203,7 +205,7 @@ def plot_angle_maps(in_plane_deg, out_of_plane_deg, panels, path, *, label, titl
                Line2D([], [], color="white", marker="+", ls="", ms=10, mew=2.0,
                       markeredgecolor="#333333", label="normal incidence")]
     fig.legend(handles=handles, loc="outside lower center", ncols=2, fontsize=8)
-    fig.colorbar(mesh, ax=list(axes), label=label, extend="both")
+    fig.colorbar(mesh, ax=list(axes), label=label, extend=extend)
     if title:
         fig.suptitle(title, fontsize=10)
     return save_figure(fig, path)
