@@ -172,8 +172,8 @@ def run_demo(out_dir="prismdesign-demo"):
         f"clearance: gap between the 1/e² circles in beam radii (waist {setup['waist_mm']:g} mm);",
         "T: transmitted power of each beam for unpolarised input, uncoated faces;",
         "ER: extinction ratio of each channel read in the nominal frame, and leakage: share of",
-        f"    the transmitted power in the stray oo/ee beams, both with the first wedge's axis "
-        f"turned by {setup['axis_error_deg']:g}° (the prism as specified).",
+        "    the transmitted power in the stray oo/ee beams, both for the prism as specified:",
+        f"    the first wedge's axis turned by {setup['axis_error_deg']:g}°.",
         "",
         f"Field of view at {lam0:g} µm, spec: leakage ≤ {limit:g} and both beams transmitted; "
         f"map of ±{grid[-1]:g}° × ±{grid[-1]:g}° in {step:g}° steps (field_of_view.png):",
