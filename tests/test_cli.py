@@ -1,4 +1,9 @@
 """The command line, run in-process through ``main``."""
+import contextlib
+import csv
+import io
+import re
+
 import numpy as np
 import pytest
 
@@ -96,34 +101,45 @@ def test_argparse_errors_exit_2(capsys):
         main(["no-such-command"])
 
 
-def test_demo_writes_its_files(capsys, tmp_path):
-    code, out, err = run(capsys, "demo", "--out", str(tmp_path / "demo"))
+@pytest.fixture(scope="module")
+def demo_run(tmp_path_factory):
+    """The demo run once through the command line: exit code, printed text, output folder."""
+    folder = tmp_path_factory.mktemp("demo")
+    out, err = io.StringIO(), io.StringIO()
+    with contextlib.redirect_stdout(out), contextlib.redirect_stderr(err):
+        code = main(["demo", "--out", str(folder)])
+    return code, out.getvalue(), folder
+
+
+def test_demo_writes_its_files(demo_run):
+    code, out, folder = demo_run
     assert code == 0
     for name in ("calcite", "quartz", "alpha_bbo", "yvo4"):
         assert name in out
     assert "IEC 60825-1" in out
-    png = tmp_path / "demo" / "birefringence_0.8-1.0um.png"
-    csv = tmp_path / "demo" / "birefringence_0.8-1.0um.csv"
+    png = folder / "birefringence_0.8-1.0um.png"
+    table = folder / "birefringence_0.8-1.0um.csv"
     assert png.read_bytes()[:4] == b"\x89PNG"
-    rows = csv.read_text().splitlines()
-    assert rows[0] == "material,source,wavelength_um,n_o,n_e,birefringence"
-    first = rows[1].split(",")
+    rows = list(csv.reader(table.read_text().splitlines()))
+    assert rows[0] == ["material", "source", "wavelength_um", "n_o", "n_e", "birefringence"]
+    first = rows[1]
     assert first[0] == "calcite" and float(first[2]) == 0.8
+    assert first[1] == material("calcite").reference.short
     assert float(first[5]) == pytest.approx(material("calcite").birefringence(0.8), abs=1e-6)
 
 
-def test_demo_design_table_and_figures(capsys, tmp_path):
+def test_demo_design_table_and_figures(demo_run):
     # The demo's printed split must be the exact Snell's-law value for its symmetric Wollaston
     # at normal incidence: refraction at the tilted interface (n₁ sinθ = n₂ sinθ') and at the
     # parallel exit face (n₂ sin(θ' − θ) = n_air sin φ); Born & Wolf, Principles of Optics §1.5.1.
     from prismdesign.output.demo import DEMO_SETUP
 
-    code, out, _ = run(capsys, "demo", "--out", str(tmp_path / "demo"))
+    code, out, folder = demo_run
     assert code == 0
     assert out.count("IEC 60825-1") == 1
     for name in ("split_versus_wavelength.png", "side_view.png", "detector_footprints.png",
                  "field_of_view.png"):
-        assert (tmp_path / "demo" / name).read_bytes()[:4] == b"\x89PNG"
+        assert (folder / name).read_bytes()[:4] == b"\x89PNG"
     row = next(line for line in out.splitlines() if line.startswith("0.900 "))
     printed_split = float(row.split()[1])
     calcite, air = material("calcite"), material("air")
@@ -133,6 +149,77 @@ def test_demo_design_table_and_figures(capsys, tmp_path):
     expected = np.rad2deg(abs(wollaston_exit_angle_rad(n_e, n_o, theta, n_air)
                               - wollaston_exit_angle_rad(n_o, n_e, theta, n_air)))
     assert printed_split == pytest.approx(expected, abs=1e-4)   # printed to 4 decimals
+
+
+def _field_line(out, which):
+    line = next(line for line in out.splitlines() if line.lstrip().startswith(which))
+    match = re.search(r"on-axis leakage (\S+); the spec is (.*)\.$", line)
+    return float(match.group(1)), match.group(2)
+
+
+def _leakage_map(prism, setup):
+    """Stray share of the transmitted power over the demo's grid, read independently of the
+    demo's code: every beam other than the two main ones is stray."""
+    from prismdesign.analysis import transmission
+
+    half, steps = setup["field_half_range_deg"], setup["field_steps"]
+    grid = np.linspace(-half, half, steps)
+    t = transmission(prism, setup["design_wavelength_um"], grid[None, :], grid[:, None])
+    main = t.power["oe"] + t.power["eo"]
+    # Both main beams transmitted: far above zero everywhere on the map (no total reflection).
+    passes = (t.power["oe"] > 0.1) & (t.power["eo"] > 0.1)
+    return grid, (t.total - main) / t.total, passes
+
+
+def test_demo_field_of_view_words_match_the_map(demo_run):
+    from prismdesign.analysis.extinction import perturb_axes
+    from prismdesign.output.demo import DEMO_SETUP, _prism
+
+    setup = DEMO_SETUP
+    limit = setup["leakage_limit"]
+    _, out, _ = demo_run
+    prism = _prism(setup)
+    as_specified = perturb_axes(prism, azimuth_error_deg=setup["axis_error_deg"], piece=0)
+
+    leak, words = _field_line(out, "as specified")
+    # Closed form: with the first wedge's axis turned by δ, each beam's polarisation leaving
+    # wedge 1 sits at δ to the eigen-directions of wedge 2, which passes the fraction sin²δ into
+    # the other mode (Malus's law; Hecht, Optics, 4th ed. 2002, §8.2.1): stray share sin²δ of
+    # the transmitted power at normal incidence, up to the slightly mode-dependent Fresnel loss
+    # at the interface and the 2-digit print.
+    assert leak == pytest.approx(np.sin(np.deg2rad(setup["axis_error_deg"])) ** 2, rel=0.03)
+    row = next(line for line in out.splitlines() if line.startswith("0.900 "))
+    assert float(row.split()[-1]) == leak                  # the table's leakage column
+    # On axis above the spec: the words must say so first.
+    assert leak > limit and words.startswith("NOT met at normal incidence; ")
+
+    grid, leakage, passes = _leakage_map(as_specified, setup)
+    ok = passes & (leakage <= limit)
+    assert 0 < ok.mean() < 1
+    share = float(re.search(r"met on ([\d.]+) % of the map", words).group(1))
+    assert share == pytest.approx(100 * ok.mean(), abs=0.05)
+    nearest = re.search(r"nearest to normal incidence ([\d.]+)° away \(in-plane ([-+\d.]+)°, "
+                        r"out-of-plane ([-+\d.]+)°\)", words)
+    distance, a, b = (float(v) for v in nearest.groups())
+    radius = np.hypot(grid[None, :], grid[:, None])
+    assert distance == pytest.approx(radius[ok].min(), abs=0.005)
+    i, j = np.argmin(np.abs(grid - b)), np.argmin(np.abs(grid - a))
+    assert ok[i, j] and np.hypot(a, b) == pytest.approx(distance, abs=0.01)
+
+    leak, words = _field_line(out, "perfectly aligned")
+    # By symmetry a perfectly crossed Wollaston has no stray beam at normal incidence.
+    assert leak == 0.0 and words.startswith("met at normal incidence and within ")
+    grid, leakage, passes = _leakage_map(prism, setup)
+    ok = passes & (leakage <= limit)
+    c = grid.size // 2
+    run_up = np.argmin(ok[c:, c]) if not ok[c:, c].all() else None
+    along = re.search(r"along the axes in-plane (.*), out-of-plane ±([\d.]+)°;", words)
+    assert along.group(1) == f"±{grid[-1]:.2f}° (grid edge)"
+    assert ok[c, :].all()                                  # the whole in-plane axis holds
+    assert run_up is not None and float(along.group(2)) == pytest.approx(grid[c + run_up - 1])
+    cone = float(re.search(r"within ([\d.]+)° of it in every direction", words).group(1))
+    # Every grid direction within the stated cone meets the spec.
+    assert ok[radius <= cone].all()
 
 
 def test_side_view_draws_the_rejected_beam_of_a_glan_prism(tmp_path):

@@ -2,11 +2,14 @@
 
 The notebooks are stored without outputs (small diffs, no stale numbers beside the code). Each
 is read as plain nbformat-4 JSON and its code cells are executed in order in one namespace, in
-this process: no Jupyter kernel or extra dependency is needed. Matplotlib is switched to the
-non-interactive Agg backend first and the working directory is a temporary one, so a notebook
-can neither open windows nor leave files in the repository.
+this process: no Jupyter kernel or extra dependency is needed. The test, not the notebook,
+chooses the non-interactive Agg backend (MPLBACKEND=Agg and ``matplotlib.use``), and the
+working directory is a temporary one, so a notebook can neither open windows nor leave files in
+the repository. A notebook itself must not force a backend: in Jupyter that would stop its
+figures from showing.
 """
 import json
+import re
 from pathlib import Path
 
 import matplotlib
@@ -44,8 +47,34 @@ def test_notebook_is_stored_without_outputs(path):
                 f"{path.name}: cell {number} has execution_count {cell.get('execution_count')!r}")
 
 
+#: Ways a notebook could force a backend: a call to matplotlib.use / pyplot.switch_backend, a
+#: `%matplotlib <backend>` magic naming a non-inline backend, or setting MPLBACKEND.
+FORCED_BACKEND = re.compile(r"\b(?:matplotlib|mpl)\.use\s*\(|switch_backend\s*\(|MPLBACKEND|"
+                            r"^\s*%matplotlib\s+(?!inline\b|widget\b)\w", re.MULTILINE)
+
+
+@pytest.mark.parametrize("path", NOTEBOOKS, ids=[p.name for p in NOTEBOOKS])
+def test_notebook_leaves_the_backend_to_jupyter(path):
+    notebook = _load(path)
+    for number, cell in enumerate(notebook["cells"]):
+        if cell["cell_type"] == "code":
+            found = FORCED_BACKEND.search(_source(cell))
+            assert found is None, (f"{path.name}: cell {number} forces a matplotlib backend "
+                                   f"({found.group(0).strip()!r}); figures would not show in "
+                                   f"Jupyter")
+
+
+def test_the_backend_check_catches_forcing():
+    for text in ('import matplotlib\nmatplotlib.use("Agg")', "plt.switch_backend('agg')",
+                 "%matplotlib agg", "os.environ['MPLBACKEND'] = 'Agg'"):
+        assert FORCED_BACKEND.search(text), text
+    for text in ("%matplotlib inline", "import matplotlib.pyplot as plt\nplt.show()"):
+        assert not FORCED_BACKEND.search(text), text
+
+
 @pytest.mark.parametrize("path", NOTEBOOKS, ids=[p.name for p in NOTEBOOKS])
 def test_notebook_runs(path, tmp_path, monkeypatch):
+    monkeypatch.setenv("MPLBACKEND", "Agg")
     matplotlib.use("Agg", force=True)
     import matplotlib.pyplot as plt
 

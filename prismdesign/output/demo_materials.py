@@ -7,12 +7,16 @@ end of the band to the other.
 """
 from __future__ import annotations
 
+import csv
+import io
 import warnings
 from pathlib import Path
 
 import numpy as np
 
 from ..materials import UnknownMaterialError, material
+from .files import write_text
+from .material_plots import curve_label, plot_birefringence_comparison
 from .tables import format_table
 
 __all__ = ["LASER_CAUTION", "run_demo"]
@@ -43,10 +47,6 @@ def run_demo(out_dir, caution=True) -> str:
     str
         The text report (table, files written, laser caution).
     """
-    import matplotlib
-    matplotlib.use("Agg")
-    import matplotlib.pyplot as plt
-
     out = Path(out_dir)
     out.mkdir(parents=True, exist_ok=True)
     lam = np.linspace(*BAND_UM, 41)
@@ -57,8 +57,8 @@ def run_demo(out_dir, caution=True) -> str:
         except UnknownMaterialError:
             missing.append(name)
 
-    rows, csv = [], ["material,source,wavelength_um,n_o,n_e,birefringence"]
-    fig, ax = plt.subplots(figsize=(7.0, 4.5))
+    rows, records = [], [["material", "source", "wavelength_um", "n_o", "n_e", "birefringence"]]
+    curves = []
     with warnings.catch_warnings(record=True) as caught:
         warnings.simplefilter("always")
         for item in found:
@@ -68,21 +68,16 @@ def run_demo(out_dir, caution=True) -> str:
             rows.append([item.name, item.optical_sign, f"{n_o[20]:.5f}", f"{n_e[20]:.5f}",
                          f"{dn[0]:+.5f}", f"{dn[20]:+.5f}", f"{dn[-1]:+.5f}", f"{change:+.2f}",
                          item.reference.short])
-            csv += [f"{item.name},{item.reference.short},{w:.4f},{a:.6f},{b:.6f},{d:.6f}"
-                    for w, a, b, d in zip(lam, n_o, n_e, dn)]
-            ax.plot(lam, np.abs(dn), label=f"{item.name} ({item.reference.short})")
-    ax.set_xlabel("vacuum wavelength (µm)")
-    ax.set_ylabel(r"$|n_e - n_o|$")
-    ax.set_title("Candidate crystals for our 0.8-1.0 µm two-channel polarimeter")
-    ax.grid(True, alpha=0.3)
-    if found:
-        ax.legend(loc="center right")
-    fig.tight_layout()
-    figure = out / "birefringence_0.8-1.0um.png"
-    fig.savefig(figure, dpi=120)
-    plt.close(fig)
-    table_file = out / "birefringence_0.8-1.0um.csv"
-    table_file.write_text("\n".join(csv) + "\n", encoding="utf-8")
+            records += [[item.name, item.reference.short, f"{w:.4f}", f"{a:.6f}", f"{b:.6f}",
+                         f"{d:.6f}"] for w, a, b, d in zip(lam, n_o, n_e, dn)]
+            curves.append((curve_label(item.name, item.reference.short), np.abs(dn)))
+    figure = plot_birefringence_comparison(
+        lam, curves, out / "birefringence_0.8-1.0um.png",
+        title="Candidate crystals for our 0.8-1.0 µm two-channel polarimeter")
+    # The csv module quotes a source that holds a comma, so every row keeps six fields.
+    text = io.StringIO()
+    csv.writer(text, lineterminator="\n").writerows(records)
+    table_file = write_text(out / "birefringence_0.8-1.0um.csv", text.getvalue())
 
     headers = ["crystal", "sign", "n_o 0.9um", "n_e 0.9um", "dn 0.8um", "dn 0.9um", "dn 1.0um",
                "|dn| change %", "source"]
