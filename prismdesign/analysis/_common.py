@@ -120,7 +120,7 @@ def summarise_loss(label, codes):
     return f"{label!r} is lost: " + ", ".join(parts)
 
 
-def missing_pair_reason(what, main, codes, power):
+def missing_pair_reason(what, main, codes, power, flags=None):
     """Why fewer than two main beams exist, in one line (for a warning or an error).
 
     Parameters
@@ -133,6 +133,9 @@ def missing_pair_reason(what, main, codes, power):
         Reason codes of every beam traced (including beams lost everywhere).
     power : dict[str, ndarray]
         Their powers (fractions of the input).
+    flags : dict[str, ndarray of int], optional
+        Their trace flags, to say when a beam is totally reflected at a thin layer (a Glan
+        gap) and only a tunnelled trace of it passes.
 
     Returns
     -------
@@ -145,12 +148,23 @@ def missing_pair_reason(what, main, codes, power):
                 f"pair figures are NaN")
     totals = {label: float(np.sum(np.where(codes[label] == 0, power[label], 0.0)))
               for label in others}
-    # Name the beam that comes closest to existing: fewest lost points, then one stopped by
-    # the geometry (a flag) rather than a branch the crossed axes never feed, then most power.
-    best = min(others, key=lambda label: (int(np.count_nonzero(codes[label])),
+    # Name the beam the user most likely expected: one totally reflected at a thin gap (a
+    # Glan prism's rejected beam), then one stopped by the geometry (a flag), rather than a
+    # branch the crossed axes never feed;
+    # then the fewest lost points and the most power.
+    flags = flags or {}
+    frustrated = {label: bool(np.any(flags.get(label, 0)
+                                     & TraceFlag.FRUSTRATED_TOTAL_REFLECTION))
+                  for label in others}
+    best = min(others, key=lambda label: (not frustrated[label],
                                           not np.any(codes[label] & LOST_FLAGS),
-                                          -totals[label], label))
-    if np.all(codes[best] != 0):
+                                          int(np.count_nonzero(codes[label])),
+                                          -float(np.max(power[label])), label))
+    if frustrated[best] and not np.any(codes[best] & LOST_FLAGS):
+        tunnelled = float(np.max(power[best]))
+        why = (f"{best!r} is totally reflected at a thin layer (at most {tunnelled:.3g} of the "
+               f"input tunnels through)")
+    elif np.all(codes[best] != 0):
         why = summarise_loss(best, codes[best])
     else:
         strongest = max((float(np.sum(power[label])) for label in main), default=0.0)

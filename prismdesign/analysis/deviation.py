@@ -266,15 +266,12 @@ def split(prism, wavelength_um, in_plane_deg=0.0, out_of_plane_deg=0.0, *, offse
     else:
         split_deg = bisector = asymmetry = np.full(shape, np.nan)
         if main_labels is None:
-            codes, powers = lost, power
-            if len(codes) < 2:
-                # The trace dropped the other beams everywhere: trace again without pruning
-                # to say which beam is missing and why.
-                extra = beam_table(prism, wavelength, in_plane, out_of_plane, offset, "split",
-                                   power_threshold=0.0)
-                codes = {label: v["lost"] for label, v in extra.items()}
-                powers = {label: v["power"] for label, v in extra.items()}
-            reason = missing_pair_reason("split", main, codes, powers)
+            # Trace again without pruning to say which beam is missing and why.
+            extra = beam_table(prism, wavelength, in_plane, out_of_plane, offset, "split",
+                               power_threshold=0.0)
+            reason = missing_pair_reason(
+                "split", main, *({label: v[name] for label, v in extra.items()}
+                                 for name in ("lost", "power", "flags")))
             warn_missing(reason)
     return SplitResult(
         labels=labels,

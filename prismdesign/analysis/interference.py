@@ -28,7 +28,7 @@ import numpy as np
 
 from ..optics.vectors import closest_approach, cross, dot, norm
 from ..prisms.base import check_finite, check_prism
-from ._common import (check_ray_inputs, check_wavelengths, input_direction_deg, lost_codes,
+from ._common import (BELOW_POWER_FLOOR, check_ray_inputs, check_wavelengths, input_direction_deg, lost_codes,
                       missing_pair_reason, rank_beams, strip_pair, summarise_loss,
                       warn_missing)
 from .memory import map_rays
@@ -63,8 +63,10 @@ def main_beams(prism, wavelength_um=None):
             for label, beam in result.beams.items()}
     ranked = rank_beams(power, 2, lost=lost)
     if len(ranked) < 2:
+        flags = {label: np.bitwise_or.reduce(beam.flags, axis=0)
+                 for label, beam in result.beams.items()}
         raise ValueError(missing_pair_reason(f"interference of the {prism.kind} prism at "
-                                             f"{lam:g} µm", ranked, lost, power)
+                                             f"{lam:g} µm", ranked, lost, power, flags)
                          .replace("the pair figures are NaN", "pass beams=(a, b) to choose"))
     return tuple(sorted(ranked))
 
@@ -116,7 +118,8 @@ def _trace_pair(prism, beams, what, wavelength_um, in_plane_deg, out_of_plane_de
         return out
 
     table = map_rays(prism, wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm, per_ray,
-                     what=what, power_threshold=0.0)
+                     what=what, power_threshold=0.0,
+                     fill=lambda key: BELOW_POWER_FLOOR if key[1] == "lost" else np.nan)
     lost = {label: table[label, "lost"] for label in beams}
     either = (lost[beams[0]] != 0) | (lost[beams[1]] != 0)
     for label in beams:

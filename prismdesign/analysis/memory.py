@@ -176,7 +176,9 @@ def map_rays(prism, wavelength, in_plane, out_of_plane, offset, per_ray, *, what
         for key, value in result.items():
             value = np.asarray(value)
             if key not in out:
-                out[key] = np.full((count,) + value.shape[1:], fill(key), dtype=value.dtype)
+                out[key] = np.empty((count,) + value.shape[1:], dtype=value.dtype)
+                # A beam first kept in a later chunk was dropped on the earlier rays.
+                out[key][:start] = fill(key)
             out[key][start:stop] = value
         for key in out.keys() - result.keys():
             out[key][start:stop] = fill(key)

@@ -285,13 +285,12 @@ def separation(prism, wavelength_um, distance_mm, in_plane_deg=0.0, out_of_plane
         values["exit_offset_mm"] = np.full(shape + (3,), np.nan)
         values["lateral_offset_mm"] = as_output(nan.copy())
         if main_labels is None:
-            codes = lost
-            if len(codes) < 2:
-                extra = beam_table(prism, wavelength, in_plane, out_of_plane, offset,
-                                   "separation", power_threshold=0.0)
-                codes, power = ({label: v["lost"] for label, v in extra.items()},
-                                {label: v["power"] for label, v in extra.items()})
-            values["reason"] = missing_pair_reason("separation", main, codes, power)
+            # Trace again without pruning to say which beam is missing and why.
+            extra = beam_table(prism, wavelength, in_plane, out_of_plane, offset,
+                               "separation", power_threshold=0.0)
+            values["reason"] = missing_pair_reason(
+                "separation", main, *({label: v[name] for label, v in extra.items()}
+                                      for name in ("lost", "power", "flags")))
             warn_missing(values["reason"])
     if waist_mm is not None:
         radius = {label: as_output(_radius_mm(waist, wavelength, z, m2))
