@@ -77,8 +77,12 @@ def default_requirements(prism, wavelength_um=None):
         return (beam_passes(mode * crystals), beam_blocked(other * crystals))
     lam = prism.design_wavelength_um if wavelength_um is None else float(wavelength_um.flat[0])
     result = prism.trace(lam, 0.0, 0.0, power_threshold=0.0)
+    # The spec is about total reflection (the clear aperture is not part of it, see
+    # field_of_view): a beam counts unless it is totally reflected, misses a surface or
+    # carries under 1 % of the input.
     main = [label for label in sorted(result.beams) if float(result.power(label)) >= 0.01
-            and not np.any(lost_codes(result.beams[label].flags, result.power(label)))]
+            and not np.any(lost_codes(result.beams[label].flags, result.power(label))
+                           & ~TraceFlag.OUTSIDE_APERTURE)]
     if not main:
         # No beam to keep inside a field: say why instead of handing on an empty spec.
         why = "; ".join(_why_not_main(label, beam, float(result.power(label)))
