@@ -27,7 +27,7 @@ def test_perfect_axes_leak_below_1e_12():
     assert np.max(result.leakage_fraction) < 1e-12
     for label in result.main_labels:
         assert np.all(result.other_power[label] < 1e-12 * result.wanted_power[label])
-        assert np.all(result.input_extinction_ratio[label] > 1e12)
+        assert np.all(result.analyser_extinction_ratio[label] > 1e12)
     # The wanted polarisations are x for "eo" (e in wedge 1, axis x) and y for "oe".
     np.testing.assert_allclose(np.abs(result.wanted_jones["eo"]), np.broadcast_to([1.0, 0.0], (4, 5, 2)),
                                atol=1e-12)
@@ -66,7 +66,7 @@ def test_axis_azimuth_error_leaks_sin2_delta():
     r = (n_o - n_e) / (n_o + n_e)
     assert abs(c[0] - c0) <= 3 * r ** 2 / np.cos(2 * theta)
     # The main beams stay pure: each still ends in a single mode of wedge 2.
-    assert np.all(np.isinf(result.extinction_ratio["eo"]))
+    assert np.all(np.isinf(result.beam_purity_ratio["eo"]))
 
 
 def test_axis_azimuth_error_gives_tan2_delta_cross_talk():
@@ -80,7 +80,7 @@ def test_axis_azimuth_error_gives_tan2_delta_cross_talk():
     wl = np.array([0.5, 1.0, 1.5])[:, None]
     result = extinction(perturb_axes(prism, deltas, piece=0), wl, nominal=prism)
     for label in ("eo", "oe"):
-        np.testing.assert_allclose(result.input_extinction_ratio[label],
+        np.testing.assert_allclose(result.analyser_extinction_ratio[label],
                                    np.broadcast_to(1.0 / np.tan(np.deg2rad(deltas)) ** 2, (3, 4)),
                                    rtol=1e-9)
     np.testing.assert_allclose(np.abs(result.input_jones["eo"]), np.broadcast_to([1.0, 0.0], (3, 4, 2)),
@@ -88,7 +88,7 @@ def test_axis_azimuth_error_gives_tan2_delta_cross_talk():
     # The same error in the second wedge only feeds the leakage branches: the analysing
     # directions are set by the first wedge.
     second = extinction(perturb_axes(prism, deltas, piece=1), wl, nominal=prism)
-    assert all(np.all(second.input_extinction_ratio[label] > 1e20) for label in ("eo", "oe"))
+    assert all(np.all(second.analyser_extinction_ratio[label] > 1e20) for label in ("eo", "oe"))
     assert np.all(second.leakage_fraction > 0.5 * np.sin(np.deg2rad(deltas)) ** 2)
 
 
@@ -151,12 +151,12 @@ def test_coinciding_beams_count_against_each_other():
     t_e = fresnel_transmittance(n_air, n_e, 0.0, "s") ** 2
     result = extinction(_calcite_plate(), wl)
     assert result.coinciding == {"e": ("o",), "o": ("e",)}
-    np.testing.assert_allclose(result.extinction_ratio["e"], t_e / t_o, rtol=1e-12)
-    np.testing.assert_allclose(result.extinction_ratio["o"], t_o / t_e, rtol=1e-12)
+    np.testing.assert_allclose(result.beam_purity_ratio["e"], t_e / t_o, rtol=1e-12)
+    np.testing.assert_allclose(result.beam_purity_ratio["o"], t_o / t_e, rtol=1e-12)
     # Oblique incidence: still parallel on exit (parallel faces), still coinciding.
     oblique = extinction(_calcite_plate(), 0.8, 4.0, 2.0)
     assert oblique.coinciding["e"] == ("o",)
-    assert oblique.extinction_ratio["e"] < 10.0
+    assert oblique.beam_purity_ratio["e"] < 10.0
     # A Wollaston's beams leave a few degrees apart: nothing coincides with its main beams.
     assert extinction(wollaston(), 0.8).coinciding == {"oe": (), "eo": ()}
 
@@ -172,7 +172,7 @@ def test_named_main_beam_turns_the_other_into_leakage():
     result = extinction(_calcite_plate(), wl, main_labels="e")
     assert result.main_labels == ("e",)
     assert result.leakage_fraction == pytest.approx(t_o / (t_o + t_e), rel=1e-12)
-    assert result.extinction_ratio["e"] == pytest.approx(t_e / t_o, rel=1e-12)
+    assert result.beam_purity_ratio["e"] == pytest.approx(t_e / t_o, rel=1e-12)
     with pytest.raises(ValueError, match="main_labels"):
         extinction(_calcite_plate(), wl, main_labels=("x",))
 

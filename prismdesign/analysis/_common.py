@@ -1,23 +1,194 @@
-"""Helpers shared by the analysis modules: input checks, beam ranking, pair handling.
+"""Helpers shared by the analysis modules: input checks, beam ranking, pair handling, and the
+one rule that says where a beam is lost.
 
 The checks turn bad input into one-line errors that name the parameter, show the value as plain
 numbers and say what is allowed, before numpy can turn it into a raw exception or a silent NaN.
 Scalar checks live with the builders (:mod:`prismdesign.prisms.base`); the checks here handle
 the arrays the analyses broadcast over.
+
+Lost beams (one rule for every analysis). A beam is *lost* at a point (one ray of the broadcast
+inputs) when its trace flags contain any of :data:`LOST_FLAGS` (totally reflected, missed a
+surface, met a surface outside its clear aperture, grazing incidence) or when its power for
+that ray is below :data:`LOST_POWER_FLOOR` of the ray's input power. :func:`lost_codes` gives a
+per-point reason code (0: the beam exists; otherwise those flag bits, plus
+:data:`BELOW_POWER_FLOOR`); :func:`describe_lost` turns codes into words. Every figure derived
+from a lost beam (its deviation, a split or separation involving it, OPD, shear, extinction) is
+NaN at that point. A beam that tunnelled through a thin gap (``FRUSTRATED_TOTAL_REFLECTION``) is
+not lost: its (small) power is real, unless it falls below the floor.
 """
+import warnings
+
 import numpy as np
 
 from .._display import plain, shown
 
-from ..optics import Beam
+from ..optics import Beam, TraceFlag
 from ..prisms.base import check_finite
 
 __all__ = ["as_output", "check_polarisation", "strip_pair", "rank_beams", "check_main_labels",
            "MAIN_BEAM_SHARE", "input_direction_deg", "shown", "plain", "check_numbers",
            "check_wavelengths", "check_offsets", "check_shapes", "check_non_negative",
-           "check_ray_inputs"]
+           "check_ray_inputs", "LOST_FLAGS", "LOST_POWER_FLOOR", "BELOW_POWER_FLOOR",
+           "lost_codes", "describe_lost", "summarise_loss", "MissingBeamWarning",
+           "missing_pair_reason", "warn_missing", "prism_sample_shape"]
 
-#: Arrays up to this size are shown in full in error messages; larger ones by shape.
+#: Trace flags under which a beam does not exist at a point (see the module docstring).
+LOST_FLAGS = (TraceFlag.TOTAL_INTERNAL_REFLECTION | TraceFlag.MISSED_SURFACE
+              | TraceFlag.OUTSIDE_APERTURE | TraceFlag.SINGULAR)
+
+#: A beam whose power is below this fraction of its ray's input power is lost there. Equal to
+#: the tracer's default pruning threshold, so a beam kept on some rays is judged on the others
+#: by the same measure.
+LOST_POWER_FLOOR = 1e-12
+
+#: Reason-code bit (above every :class:`~prismdesign.optics.TraceFlag` bit) for a beam whose
+#: power is below :data:`LOST_POWER_FLOOR` (or which the trace dropped on that ray).
+BELOW_POWER_FLOOR = 1 << 16
+
+_REASONS = ((TraceFlag.TOTAL_INTERNAL_REFLECTION, "totally reflected"),
+            (TraceFlag.MISSED_SURFACE, "missed a surface"),
+            (TraceFlag.SINGULAR, "grazing incidence at a surface"),
+            (TraceFlag.OUTSIDE_APERTURE, "outside the clear aperture"),
+            (BELOW_POWER_FLOOR, f"power below {LOST_POWER_FLOOR:g} of the input"))
+
+
+class MissingBeamWarning(UserWarning):
+    """Fewer beams leave the prism than an analysis compares (its pair figures are NaN)."""
+
+
+def lost_codes(flags, power_fraction, floor=LOST_POWER_FLOOR):
+    """Per-point reason codes of a beam: 0 where it exists, else the reasons it is lost.
+
+    Parameters
+    ----------
+    flags : array_like of int
+        :class:`~prismdesign.optics.TraceFlag` bits of the beam, per ray.
+    power_fraction : array_like
+        Beam power as a fraction of each ray's input power (same shape, or broadcasting).
+    floor : float
+        Power fraction below which the beam counts as lost.
+
+    Returns
+    -------
+    ndarray of int
+        ``flags & LOST_FLAGS``, plus :data:`BELOW_POWER_FLOOR` where the power is below `floor`.
+    """
+    flags = np.asarray(flags, dtype=np.int64)
+    below = np.asarray(power_fraction) < floor
+    return (flags & LOST_FLAGS) | np.where(below, BELOW_POWER_FLOOR, 0)
+
+
+def describe_lost(codes):
+    """Reason codes (from :func:`lost_codes`) in words, per point.
+
+    Parameters
+    ----------
+    codes : array_like of int
+
+    Returns
+    -------
+    str or ndarray of str
+        "" where the beam exists, else its reasons joined by "; ", e.g. "totally reflected;
+        power below 1e-12 of the input". Scalar in, str out.
+    """
+    codes = np.asarray(codes, dtype=np.int64)
+    out = np.full(codes.shape, "", dtype=object)
+    for bit, text in _REASONS:
+        has = (codes & bit) != 0
+        out = np.where(has, np.where(out == "", text, out + "; " + text), out)
+    return out[()] if out.ndim == 0 else out
+
+
+def summarise_loss(label, codes):
+    """One phrase saying where and why a beam is lost, e.g. "'oe' is lost: totally reflected
+    at 2 of 3 points" (for messages)."""
+    codes = np.asarray(codes, dtype=np.int64)
+    total = codes.size
+    lost = int(np.count_nonzero(codes))
+    if lost == 0:
+        return f"{label!r} exists at every point"
+    parts = []
+    for bit, text in _REASONS:
+        count = int(np.count_nonzero(codes & bit))
+        # A beam stopped by the geometry also has (almost) no power: say only the first.
+        if bit == BELOW_POWER_FLOOR:
+            count = int(np.count_nonzero(((codes & BELOW_POWER_FLOOR) != 0)
+                                         & ((codes & LOST_FLAGS) == 0)))
+        if count:
+            where = "at every point" if count == total else f"at {count} of {total} points"
+            parts.append(f"{text} {where}")
+    return f"{label!r} is lost: " + ", ".join(parts)
+
+
+def missing_pair_reason(what, main, codes, power, flags=None):
+    """Why fewer than two main beams exist, in one line (for a warning or an error).
+
+    Parameters
+    ----------
+    what : str
+        The analysis, e.g. "split".
+    main : tuple of str
+        The main beams found (fewer than two).
+    codes : dict[str, ndarray of int]
+        Reason codes of every beam traced (including beams lost everywhere).
+    power : dict[str, ndarray]
+        Their powers (fractions of the input).
+    flags : dict[str, ndarray of int], optional
+        Their trace flags, to say when a beam is totally reflected at a thin layer (a Glan
+        gap) and only a tunnelled trace of it passes.
+
+    Returns
+    -------
+    str
+    """
+    others = [label for label in codes if label not in main]
+    kept = ", ".join(repr(label) for label in main) or "none"
+    if not others:
+        return (f"{what}: no second beam leaves the prism (beams carrying power: {kept}); the "
+                f"pair figures are NaN")
+    totals = {label: float(np.sum(np.where(codes[label] == 0, power[label], 0.0)))
+              for label in others}
+    # Name the beam the user most likely expected: one totally reflected at a thin gap (a
+    # Glan prism's rejected beam), then one stopped by the geometry (a flag), rather than a
+    # branch the crossed axes never feed;
+    # then the fewest lost points and the most power.
+    flags = flags or {}
+    frustrated = {label: bool(np.any(flags.get(label, 0)
+                                     & TraceFlag.FRUSTRATED_TOTAL_REFLECTION))
+                  for label in others}
+    best = min(others, key=lambda label: (not frustrated[label],
+                                          not np.any(codes[label] & LOST_FLAGS),
+                                          int(np.count_nonzero(codes[label])),
+                                          -float(np.max(power[label])), label))
+    if frustrated[best] and not np.any(codes[best] & LOST_FLAGS):
+        tunnelled = float(np.max(power[best]))
+        why = (f"{best!r} is totally reflected at a thin layer (at most {tunnelled:.3g} of the "
+               f"input tunnels through)")
+    elif np.all(codes[best] != 0):
+        why = summarise_loss(best, codes[best])
+    else:
+        strongest = max((float(np.sum(power[label])) for label in main), default=0.0)
+        share = totals[best] / strongest if strongest > 0 else 0.0
+        why = (f"{best!r} carries only {share:.3g} of the strongest beam's power (a main beam "
+               f"needs {MAIN_BEAM_SHARE:g})")
+    return (f"{what}: no second beam leaves the prism: {why}; beams carrying power: {kept}; "
+            f"the pair figures are NaN")
+
+
+def warn_missing(message):
+    """Warn that a pair of beams does not exist (stacklevel: the user's call)."""
+    warnings.warn(message, MissingBeamWarning, stacklevel=3)
+
+
+def prism_sample_shape(prism):
+    """Broadcast shape of the sample axes carried by a prism's optic axes (() when none)."""
+    shapes = [np.shape(p.optic_axis)[:-1] for p in prism.pieces if p.optic_axis is not None]
+    try:
+        return np.broadcast_shapes(*shapes) if shapes else ()
+    except ValueError:
+        listing = ", ".join(str(s) for s in shapes)
+        raise ValueError(f"prism optic axes must carry sample axes that broadcast together, got "
+                         f"shapes {listing}") from None
 
 
 def as_output(value):
@@ -183,13 +354,16 @@ def strip_pair(beam, pair):
 MAIN_BEAM_SHARE = 0.01
 
 
-def rank_beams(powers, count=None, share=MAIN_BEAM_SHARE):
+def rank_beams(powers, count=None, share=MAIN_BEAM_SHARE, lost=None):
     """Labels of the main beams: the strongest, by power summed over all rays.
 
     Parameters
     ----------
     powers : dict[str, ndarray]
         Power of each beam (same shape for all).
+    lost : dict[str, ndarray of int], optional
+        Reason codes (:func:`lost_codes`); power where a beam is lost does not count, so a beam
+        lost on every ray is never chosen.
     count : int, optional
         Keep at most this many.
     share : float
@@ -201,6 +375,8 @@ def rank_beams(powers, count=None, share=MAIN_BEAM_SHARE):
         Strongest first; ties broken by label so the choice is reproducible. Beams whose power
         is zero on every ray are never chosen.
     """
+    if lost is not None:
+        powers = {label: np.where(lost[label] != 0, 0.0, p) for label, p in powers.items()}
     totals = {label: float(np.sum(p)) for label, p in powers.items()}
     top = max(totals.values(), default=0.0)
     ordered = sorted((label for label in totals if totals[label] > 0 and totals[label] >= share * top),
@@ -234,7 +410,8 @@ def input_direction_deg(in_plane_deg, out_of_plane_deg):
             check_numbers("out_of_plane_deg", out_of_plane_deg, allowed, inside))
 
 
-def check_ray_inputs(wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm, *extra):
+def check_ray_inputs(wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm, *extra,
+                     prism=None):
     """Check the inputs every trace-based analysis takes and that they broadcast together.
 
     Parameters
@@ -243,6 +420,9 @@ def check_ray_inputs(wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm, *
         As given by the user.
     *extra : (str, tuple)
         Further named shapes that must broadcast with the rays (e.g. a distance).
+    prism : Prism, optional
+        Its optic axes' sample axes (Monte Carlo copies, :func:`perturb_axes`) must broadcast
+        against the rays as well.
 
     Returns
     -------
@@ -251,7 +431,16 @@ def check_ray_inputs(wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm, *
     wavelength = check_wavelengths(wavelength_um)
     in_plane, out_of_plane = input_direction_deg(in_plane_deg, out_of_plane_deg)
     offset = check_offsets(offset_mm)
-    check_shapes(("wavelength_um", wavelength.shape), ("in_plane_deg", in_plane.shape),
-                 ("out_of_plane_deg", out_of_plane.shape),
-                 ("offset_mm", offset.shape, 1), *extra)
+    named = [("wavelength_um", wavelength.shape), ("in_plane_deg", in_plane.shape),
+             ("out_of_plane_deg", out_of_plane.shape), ("offset_mm", offset.shape, 1), *extra]
+    rays = check_shapes(*named)
+    if prism is not None:
+        samples = prism_sample_shape(prism)
+        try:
+            np.broadcast_shapes(samples, rays)
+        except ValueError:
+            raise ValueError(
+                f"the prism's optic-axis samples (shape {samples}, e.g. from perturb_axes) must "
+                f"broadcast against the ray inputs (shape {rays}); give the samples an axis of "
+                f"their own, e.g. perturb_axes(prism, errors[:, None])") from None
     return wavelength, in_plane, out_of_plane, offset

@@ -13,7 +13,9 @@ import numpy as np
 from ..optics.vectors import cross, dot, norm
 from ..prisms.base import check_prism
 from ._common import (as_output, check_main_labels, check_numbers, check_ray_inputs,
-                      check_shapes, rank_beams, shown, strip_pair)
+                      check_shapes, lost_codes, missing_pair_reason, rank_beams, shown,
+                      strip_pair, warn_missing)
+from .memory import map_rays
 
 __all__ = ["SplitResult", "split", "split_angle_deg", "wollaston_small_angle_split_deg"]
 
@@ -30,28 +32,42 @@ class SplitResult:
     labels : tuple of str
         Every transmitted beam, e.g. ``("oe", "eo")``.
     in_plane_deg, out_of_plane_deg : dict[str, ndarray]
-        Deviation of each beam's exit ray from z (degrees).
+        Deviation of each beam's exit ray from z (degrees); NaN where the beam is lost (see
+        `lost`).
     direction : dict[str, ndarray, shape (..., 3)]
-        Unit exit ray direction of each beam.
+        Unit exit ray direction of each beam; NaN where the beam is lost.
     power : dict[str, ndarray]
-        Power of each beam for unpolarised input, as a fraction of the input power.
+        Power of each beam for unpolarised input, as a fraction of the input power, as traced
+        (0 where totally reflected; for a ray outside the clear aperture the prism is treated
+        as extending beyond it).
     flags : dict[str, ndarray of int]
-        :class:`~prismdesign.optics.TraceFlag` bits of each beam, per ray. Deviations and
-        powers are computed for every ray, also for one that left the clear aperture
-        (``OUTSIDE_APERTURE``, the prism is treated as extending beyond it), was totally
-        reflected or missed a surface: check ``flags[label] == 0`` before trusting a value.
+        :class:`~prismdesign.optics.TraceFlag` bits of each beam, per ray, as traced.
+    lost : dict[str, ndarray of int]
+        Per ray, why each beam does not exist there: 0 where it does, else reason bits
+        (:func:`~prismdesign.analysis.lost_codes`: totally reflected, missed a surface,
+        outside the clear aperture, grazing incidence, power below
+        :data:`~prismdesign.analysis.LOST_POWER_FLOOR`);
+        :func:`~prismdesign.analysis.describe_lost` puts them in words.
     main_labels : tuple of str
-        The two strongest beams (largest unpolarised power summed over all rays, each with at
-        least 1 % of the strongest's), ordered by in-plane deviation (most negative first).
-        Fewer than two when fewer beams carry power (a polariser at normal incidence).
-    split_deg : ndarray or None
-        Exact angle between the two main beams (degrees); None with fewer than two main beams.
-    bisector_in_plane_deg : ndarray or None
+        The two strongest beams (largest unpolarised power summed over the rays where they
+        exist, each with at least 1 % of the strongest's), ordered by their mean in-plane
+        deviation (most negative first). Fewer than two when fewer beams carry power (a
+        polariser at normal incidence, a Wollaston whose second beam is totally reflected
+        everywhere); `reason` then says which beam is missing and why.
+    split_deg : ndarray
+        Exact angle between the two main beams (degrees); NaN where either is lost, and
+        everywhere with fewer than two main beams.
+    bisector_in_plane_deg : ndarray
         In-plane angle from z of the bisector of the two main directions. For beams in the
-        principal section it equals the mean of their in-plane deviations exactly.
-    asymmetry_deg : ndarray or None
+        principal section it equals the mean of their in-plane deviations exactly. NaN like
+        `split_deg`.
+    asymmetry_deg : ndarray
         `bisector_in_plane_deg` minus the input's in-plane angle: how far the split is off-centre
-        about the input direction (≈ 0 for a symmetric Wollaston at normal incidence).
+        about the input direction (≈ 0 for a symmetric Wollaston at normal incidence). NaN like
+        `split_deg`.
+    reason : str
+        "" when two main beams exist; else one line naming the missing beam and why (also
+        issued as a :class:`~prismdesign.analysis.MissingBeamWarning`).
     """
 
     labels: tuple
@@ -60,10 +76,12 @@ class SplitResult:
     direction: dict
     power: dict
     flags: dict
+    lost: dict
     main_labels: tuple
     split_deg: object
     bisector_in_plane_deg: object
     asymmetry_deg: object
+    reason: str = ""
 
 
 def split_angle_deg(direction_a, direction_b):
@@ -129,6 +147,50 @@ def wollaston_small_angle_split_deg(n_o, n_e, wedge_angle_deg):
     return as_output(np.rad2deg(2.0 * np.abs(n_o - n_e) * np.tan(np.deg2rad(wedge))))
 
 
+def _split_per_ray(result, traced_prism):
+    """Per-ray figures of every beam of a trace (pair axis removed), keyed (label, field)."""
+    out = {}
+    for label, beam in result.beams.items():
+        beam = strip_pair(beam, result.incoherent_pair)
+        in_dev, out_dev = beam.deviation_deg()
+        out[label, "in_plane_deg"] = in_dev
+        out[label, "out_of_plane_deg"] = out_dev
+        out[label, "direction"] = beam.exit_direction
+        out[label, "power"] = beam.power
+        out[label, "flags"] = beam.flags
+    return out
+
+
+#: Values for rays on which the trace dropped a beam (its power below the pruning threshold).
+_DROPPED = {"power": 0.0, "flags": 0}
+
+
+def beam_table(prism, wavelength, in_plane, out_of_plane, offset, what, **trace_options):
+    """Per-ray deviation, direction, power, flags and lost codes of every beam (unpolarised).
+
+    `trace_options` go to the trace (``power_threshold=0.0`` keeps beams lost everywhere, to
+    say why they are missing).
+
+    Returns
+    -------
+    dict[str, dict[str, ndarray]]
+        By label, then by field ("in_plane_deg", "out_of_plane_deg", "direction", "power",
+        "flags", "lost"); figures of a lost beam are NaN where it is lost.
+    """
+    flat = map_rays(prism, wavelength, in_plane, out_of_plane, offset, _split_per_ray,
+                    what=what, fill=lambda key: _DROPPED.get(key[1], np.nan), **trace_options)
+    table = {}
+    for (label, name), value in flat.items():
+        table.setdefault(label, {})[name] = value
+    for values in table.values():
+        values["lost"] = lost_codes(values["flags"], values["power"])
+        gone = values["lost"] != 0
+        for name in ("in_plane_deg", "out_of_plane_deg"):
+            values[name] = np.where(gone, np.nan, values[name])
+        values["direction"] = np.where(gone[..., None], np.nan, values["direction"])
+    return table
+
+
 def split(prism, wavelength_um, in_plane_deg=0.0, out_of_plane_deg=0.0, *, offset_mm=(0.0, 0.0),
           main_labels=None):
     """Deviation of each beam and the exact split between the two main beams.
@@ -158,42 +220,73 @@ def split(prism, wavelength_um, in_plane_deg=0.0, out_of_plane_deg=0.0, *, offse
     ValueError
         In one line, for a `prism` that is not a :class:`~prismdesign.prisms.Prism`, text,
         booleans, complex or non-finite numbers, wavelengths <= 0, angles outside (−90, 90),
-        inputs that do not broadcast together, or unknown `main_labels`.
+        inputs (or the prism's optic-axis samples) that do not broadcast together, unknown
+        `main_labels`, or results that would not fit in
+        :data:`~prismdesign.analysis.memory.MEMORY_LIMIT_BYTES`.
+
+    Warns
+    -----
+    MissingBeamWarning
+        When fewer than two main beams leave the prism anywhere (a polariser, or a Wollaston
+        whose second beam is totally reflected at every point); the same text is in
+        :attr:`SplitResult.reason`.
 
     Notes
     -----
     The trace is unpolarised so that the main beams are chosen by the power they carry for
-    unpolarised light. Geometry does not depend on the input polarisation. Rays that leave the
-    clear aperture are still traced and reported; :attr:`SplitResult.flags` marks them.
+    unpolarised light. Geometry does not depend on the input polarisation. Where a beam is lost
+    (:attr:`SplitResult.lost`) its deviations and direction are NaN, and so are the split,
+    bisector and asymmetry where either main beam is lost. Work on more rays than fit in memory
+    is traced in chunks (:mod:`prismdesign.analysis.memory`).
     """
     check_prism(prism)
     wavelength, in_plane, out_of_plane, offset = check_ray_inputs(
-        wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm)
-    result = prism.trace(wavelength, in_plane, out_of_plane, offset_mm=offset,
-                         polarisation="unpolarised")
-    beams = {label: strip_pair(beam, result.incoherent_pair) for label, beam in result.beams.items()}
-    labels = tuple(beams)
-    deviation = {label: beam.deviation_deg() for label, beam in beams.items()}
-    in_dev = {label: d[0] for label, d in deviation.items()}
-    power = {label: beam.power for label, beam in beams.items()}
-    main = rank_beams(power, 2) if main_labels is None else check_main_labels(main_labels, beams, 2)
+        wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm, prism=prism)
+    table = beam_table(prism, wavelength, in_plane, out_of_plane, offset, "split")
+    labels = tuple(table)
+    power = {label: v["power"] for label, v in table.items()}
+    lost = {label: v["lost"] for label, v in table.items()}
+    in_dev = {label: v["in_plane_deg"] for label, v in table.items()}
+    if main_labels is None:
+        main = rank_beams(power, 2, lost=lost)
+    else:
+        main = check_main_labels(main_labels, table, 2)
     if len(main) > 2:
         raise ValueError(f"main_labels must name two beams, got {main_labels!r}")
-    main = tuple(sorted(main, key=lambda label: (float(np.mean(in_dev[label])), label)))
-    split_deg = bisector = asymmetry = None
+    main = tuple(sorted(main, key=lambda label: (_mean_or_inf(in_dev[label]), label)))
+    shape = np.shape(next(iter(power.values()))) if power else np.broadcast_shapes(
+        wavelength.shape, in_plane.shape, out_of_plane.shape, offset.shape[:-1])
+    reason = ""
     if len(main) == 2:
-        a, b = (beams[label].exit_direction for label in main)
-        split_deg = as_output(angle_between_deg(a, b))
+        a, b = (table[label]["direction"] for label in main)
+        split_deg = angle_between_deg(a, b)
         mid = a + b
         bisector = np.rad2deg(np.arctan2(mid[..., 0], mid[..., 2]))
-        asymmetry = as_output(bisector - in_plane)
-        bisector = as_output(bisector)
+        asymmetry = bisector - in_plane
+    else:
+        split_deg = bisector = asymmetry = np.full(shape, np.nan)
+        if main_labels is None:
+            # Trace again without pruning to say which beam is missing and why.
+            extra = beam_table(prism, wavelength, in_plane, out_of_plane, offset, "split",
+                               power_threshold=0.0)
+            reason = missing_pair_reason(
+                "split", main, *({label: v[name] for label, v in extra.items()}
+                                 for name in ("lost", "power", "flags")))
+            warn_missing(reason)
     return SplitResult(
         labels=labels,
         in_plane_deg={label: as_output(v) for label, v in in_dev.items()},
-        out_of_plane_deg={label: as_output(d[1]) for label, d in deviation.items()},
-        direction={label: beam.exit_direction for label, beam in beams.items()},
+        out_of_plane_deg={label: as_output(v["out_of_plane_deg"]) for label, v in table.items()},
+        direction={label: v["direction"] for label, v in table.items()},
         power={label: as_output(v) for label, v in power.items()},
-        flags={label: as_output(beam.flags) for label, beam in beams.items()},
-        main_labels=main, split_deg=split_deg, bisector_in_plane_deg=bisector,
-        asymmetry_deg=asymmetry)
+        flags={label: as_output(v["flags"]) for label, v in table.items()},
+        lost={label: as_output(v) for label, v in lost.items()},
+        main_labels=main, split_deg=as_output(split_deg),
+        bisector_in_plane_deg=as_output(np.broadcast_to(bisector, shape).copy()),
+        asymmetry_deg=as_output(np.broadcast_to(asymmetry, shape).copy()), reason=reason)
+
+
+def _mean_or_inf(values):
+    """Mean of the finite values (where the beam exists); inf when there are none."""
+    finite = np.isfinite(values)
+    return float(np.mean(values[finite])) if np.any(finite) else np.inf

@@ -8,18 +8,22 @@ Definitions used here:
 * A main beam's **wanted polarisation** is its exit polarisation in the nominal prism: the
   principal eigenvector of its exit coherency matrix Σ J Jᴴ for unpolarised input. A beam that
   ends in one crystal mode is fully polarised, so this is the polarisation that mode imposes.
-* Its **extinction ratio** is the power along the wanted polarisation over the power along the
-  orthogonal one, counting the beam itself and every other beam of the (perturbed) prism that
+* Its **beam purity ratio** (`beam_purity_ratio`) is the power along the wanted polarisation
+  over the power along the orthogonal one, counting the beam itself and every other beam of the (perturbed) prism that
   overlaps it: exit direction within `coincidence_deg` and exit ray within `coincidence_mm`
   sideways (e.g. the "oo" branch that a Glan prism lets through beside its "ee" beam).
   Overlapping beams add incoherently: their optical paths differ by many waves across any real
   aperture and band (common practice, no source).
-* Its **input extinction ratio** reads the prism as an analyser in the nominal frame: the power
+* Its **analyser extinction ratio** (`analyser_extinction_ratio`, what a data sheet calls the
+  extinction ratio of a polariser) reads the prism as an analyser in the nominal frame: the power
   reaching the beam's place (the beam and the beams overlapping it) for the input polarisation
   the nominal beam passes best (principal right singular vector of its Jones matrix) over the
   power for the orthogonal input. An axis error that turns the analysing direction shows here
   (e.g. tan²δ cross-talk for a Wollaston whose first wedge axis is turned by δ), even though
-  each beam still leaves perfectly polarised.
+  each beam still leaves perfectly polarised (its beam purity ratio stays infinite).
+* Where a main beam is lost (:func:`~prismdesign.analysis.lost_codes`, in the nominal or in the
+  assessed prism) its ratios, powers and wanted polarisation are NaN, and a beam lost at a
+  point never counts as overlapping another there.
 * **Leakage branches** are all beams other than the main beams (e.g. "oo", "ee" of a Wollaston
   whose axes are not exactly crossed); `leakage_fraction` is their share of the transmitted power.
 
@@ -32,9 +36,10 @@ import numpy as np
 
 from ..optics.vectors import cross, dot, norm, normalize
 from ..prisms.base import check_prism
-from ._common import (as_output, check_main_labels, check_non_negative, check_numbers,
-                      check_polarisation, check_ray_inputs, check_shapes, rank_beams,
-                      shown, strip_pair)
+from ._common import (BELOW_POWER_FLOOR, as_output, check_main_labels, check_non_negative,
+                      check_numbers, check_polarisation, check_ray_inputs, check_shapes,
+                      lost_codes, prism_sample_shape, rank_beams, shown, strip_pair)
+from .memory import check_fits, trace_bytes_per_ray
 from .deviation import angle_between_deg
 from .jones import jones_matrices
 
@@ -115,13 +120,19 @@ class ExtinctionResult:
     wanted_power, other_power : dict[str, ndarray]
         Power along the wanted and the orthogonal polarisation in the direction of each main
         beam, including coinciding beams.
-    extinction_ratio : dict[str, ndarray]
-        wanted_power / other_power (inf where other_power is 0).
+    beam_purity_ratio : dict[str, ndarray]
+        Polarisation purity of the beam as it leaves: wanted_power / other_power (inf where
+        other_power is 0). Stays inf when an axis error only turns the analysing direction.
     input_jones : dict[str, ndarray, complex, shape (..., 2)]
         Input polarisation each main beam passes best in the nominal prism (input basis).
-    input_extinction_ratio : dict[str, ndarray]
-        Power at the main beam's place for `input_jones` over that for the orthogonal input
-        (inf where the latter is 0). Independent of the `polarisation` argument.
+    analyser_extinction_ratio : dict[str, ndarray]
+        The prism read as an analyser in the nominal frame: power at the main beam's place
+        for `input_jones` over that for the orthogonal input (inf where the latter is 0).
+        Independent of the `polarisation` argument. This is the figure to compare with a
+        polariser's specified extinction ratio.
+    lost : dict[str, ndarray of int]
+        Per ray, why each main beam does not exist there in the nominal or the assessed prism
+        (0: it exists); every figure of that beam is NaN there.
     coinciding : dict[str, tuple of str]
         For each main beam, the other beams found overlapping it on some ray.
     leakage_power : dict[str, ndarray]
@@ -136,12 +147,32 @@ class ExtinctionResult:
     wanted_jones: dict
     wanted_power: dict
     other_power: dict
-    extinction_ratio: dict
+    beam_purity_ratio: dict
     input_jones: dict
-    input_extinction_ratio: dict
+    analyser_extinction_ratio: dict
+    lost: dict
     coinciding: dict
     leakage_power: dict
     leakage_fraction: object
+
+
+def _check_extinction_fits(prism, nominal, wavelength, in_plane, out_of_plane, offset,
+                           polarisation):
+    """Refuse, with the estimate, an extinction analysis whose traces would not fit in memory.
+
+    Up to four traces are alive at once (nominal unpolarised, assessed, assessed unpolarised,
+    and one of the four single-polarisation traces behind the two sets of Jones matrices).
+    """
+    shapes = [wavelength.shape, in_plane.shape, out_of_plane.shape, offset.shape[:-1],
+              prism_sample_shape(prism)]
+    if nominal is not None:
+        shapes.append(prism_sample_shape(nominal))
+    if not isinstance(polarisation, str):
+        shapes.append(polarisation.shape[:-1])
+    rays = int(np.prod(np.broadcast_shapes(*shapes)))
+    per = trace_bytes_per_ray(prism)
+    check_fits("extinction", rays * per * 7, f"{rays} rays × 7 traced polarisation states × "
+               f"{per} bytes", "ask for fewer points or fewer samples")
 
 
 def _principal_polarisation(beam, pair):
@@ -162,7 +193,8 @@ def _power(matrix, jones):
 def extinction(prism, wavelength_um, in_plane_deg=0.0, out_of_plane_deg=0.0, *,
                offset_mm=(0.0, 0.0), polarisation="unpolarised", nominal=None,
                coincidence_deg=0.05, coincidence_mm=0.5, main_labels=None, power_threshold=0.0):
-    """Extinction ratio of each main beam and leakage into other branches.
+    """Beam purity and analyser extinction ratio of each main beam, and leakage into other
+    branches.
 
     Parameters
     ----------
@@ -202,7 +234,9 @@ def extinction(prism, wavelength_um, in_plane_deg=0.0, out_of_plane_deg=0.0, *,
         In one line, for a `prism` or `nominal` that is not a
         :class:`~prismdesign.prisms.Prism`, text, booleans, complex or non-finite numbers,
         wavelengths <= 0, angles outside (−90, 90), negative tolerances or threshold, a zero or
-        malformed Jones vector, inputs that do not broadcast together, or unknown `main_labels`.
+        malformed Jones vector, inputs (or either prism's optic-axis samples) that do not
+        broadcast together, unknown `main_labels`, or traces that would not fit in
+        :data:`~prismdesign.analysis.memory.MEMORY_LIMIT_BYTES` (refused with the estimate).
     """
     check_prism(prism)
     if nominal is not None:
@@ -210,7 +244,12 @@ def extinction(prism, wavelength_um, in_plane_deg=0.0, out_of_plane_deg=0.0, *,
     polarisation, input_power = check_polarisation(polarisation)
     wavelength, in_plane, out_of_plane, offset_mm = check_ray_inputs(
         wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm,
-        *(() if isinstance(polarisation, str) else (("polarisation", polarisation.shape, 1),)))
+        *(() if isinstance(polarisation, str) else (("polarisation", polarisation.shape, 1),)),
+        prism=prism)
+    if nominal is not None:
+        check_ray_inputs(wavelength, in_plane, out_of_plane, offset_mm, prism=nominal)
+    _check_extinction_fits(prism, nominal, wavelength, in_plane, out_of_plane, offset_mm,
+                           polarisation)
     coincidence_deg = check_non_negative("coincidence_deg", coincidence_deg,
                                          "a finite angle in degrees >= 0")
     coincidence_mm = check_non_negative("coincidence_mm", coincidence_mm,
@@ -221,8 +260,9 @@ def extinction(prism, wavelength_um, in_plane_deg=0.0, out_of_plane_deg=0.0, *,
     reference = (prism if nominal is None else nominal).trace(
         *args, offset_mm=offset_mm, polarisation="unpolarised", power_threshold=power_threshold)
     ref_beams = {label: strip_pair(b, True) for label, b in reference.beams.items()}
+    ref_lost = {label: lost_codes(b.flags, b.power) for label, b in ref_beams.items()}
     if main_labels is None:
-        main = rank_beams({label: b.power for label, b in ref_beams.items()})
+        main = rank_beams({label: b.power for label, b in ref_beams.items()}, lost=ref_lost)
     else:
         main = check_main_labels(main_labels, ref_beams)
     result = prism.trace(*args, offset_mm=offset_mm, polarisation=polarisation,
@@ -231,13 +271,27 @@ def extinction(prism, wavelength_um, in_plane_deg=0.0, out_of_plane_deg=0.0, *,
     beams = result.beams
     geometry = {label: strip_pair(b, pair) for label, b in beams.items()}
     power = {label: g.power / input_power for label, g in geometry.items()}
-    shape = np.broadcast_shapes(*(np.shape(p) for p in power.values()))
+    shape = np.broadcast_shapes(*(np.shape(p) for p in power.values()),
+                                *(np.shape(b.power) for b in ref_beams.values()))
+    # Lost in the assessed prism: judged by the power it carries for unpolarised light, so
+    # that a beam the chosen input polarisation does not feed still counts as existing.
+    if nominal is None:
+        unpolarised = reference
+    elif pair:
+        unpolarised = result
+    else:
+        unpolarised = prism.trace(*args, offset_mm=offset_mm, polarisation="unpolarised",
+                                  power_threshold=power_threshold)
+    assessed_lost = {label: lost_codes(strip_pair(b, True).flags, strip_pair(b, True).power)
+                     for label, b in unpolarised.beams.items()}
     jones_args = dict(offset_mm=offset_mm)
     nominal_jones = jones_matrices(prism if nominal is None else nominal, *args, **jones_args).jones
     prism_jones = jones_matrices(prism, *args, **jones_args).jones
     wanted_jones, wanted, other, ratio, coinciding = {}, {}, {}, {}, {}
-    input_jones, input_ratio = {}, {}
+    input_jones, input_ratio, lost = {}, {}, {}
     for label in main:
+        lost[label] = np.broadcast_to(
+            ref_lost[label] | assessed_lost.get(label, BELOW_POWER_FLOOR), shape)
         w = _principal_polarisation(reference.beams[label], True)
         w = np.broadcast_to(w, shape + (2,))
         w_perp = np.stack([-w[..., 1].conj(), w[..., 0].conj()], axis=-1)
@@ -253,7 +307,8 @@ def extinction(prism, wavelength_um, in_plane_deg=0.0, out_of_plane_deg=0.0, *,
             sideways_mm = norm(cross(normalize(direction + other_direction),
                                      geometry[name].exit_position_mm - start))
             near = ((angle_between_deg(other_direction, direction) <= coincidence_deg)
-                    & (sideways_mm <= coincidence_mm))
+                    & (sideways_mm <= coincidence_mm)
+                    & (assessed_lost.get(name, BELOW_POWER_FLOOR) == 0))
             if not np.any(near):
                 continue
             if name != label:
@@ -269,11 +324,16 @@ def extinction(prism, wavelength_um, in_plane_deg=0.0, out_of_plane_deg=0.0, *,
                 m = prism_jones[name]
                 passed = passed + np.where(near, _power(m, v), 0.0)
                 blocked = blocked + np.where(near, _power(m, v_perp), 0.0)
+        gone = lost[label] != 0
         with np.errstate(divide="ignore", invalid="ignore"):
-            ratio[label] = as_output(np.where(other[label] > 0, wanted[label] / other[label], np.inf))
-            input_ratio[label] = as_output(np.where(blocked > 0, passed / blocked, np.inf))
-        wanted_jones[label] = w
-        input_jones[label] = v
+            ratio[label] = as_output(np.where(
+                gone, np.nan, np.where(other[label] > 0, wanted[label] / other[label], np.inf)))
+            input_ratio[label] = as_output(np.where(
+                gone, np.nan, np.where(blocked > 0, passed / blocked, np.inf)))
+        wanted[label] = np.where(gone, np.nan, wanted[label])
+        other[label] = np.where(gone, np.nan, other[label])
+        wanted_jones[label] = np.where(gone[..., None], np.nan, w)
+        input_jones[label] = np.where(gone[..., None], np.nan, v)
     leakage = {label: p for label, p in power.items() if label not in main}
     total = sum(power.values(), np.zeros(shape))
     leak_total = sum(leakage.values(), np.zeros(shape))
@@ -283,7 +343,8 @@ def extinction(prism, wavelength_um, in_plane_deg=0.0, out_of_plane_deg=0.0, *,
         labels=tuple(beams), main_labels=main,
         power={label: as_output(p) for label, p in power.items()}, wanted_jones=wanted_jones,
         wanted_power={k: as_output(v) for k, v in wanted.items()},
-        other_power={k: as_output(v) for k, v in other.items()}, extinction_ratio=ratio,
-        input_jones=input_jones, input_extinction_ratio=input_ratio,
+        other_power={k: as_output(v) for k, v in other.items()}, beam_purity_ratio=ratio,
+        input_jones=input_jones, analyser_extinction_ratio=input_ratio,
+        lost={k: as_output(v) for k, v in lost.items()},
         coinciding=coinciding, leakage_power={k: as_output(v) for k, v in leakage.items()},
         leakage_fraction=as_output(fraction))

@@ -24,9 +24,12 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..optics import TraceFlag
 from ..prisms.base import check_angle, check_flag, check_positive, check_prism
-from ._common import (check_numbers, check_offsets, check_polarisation, check_ray_inputs,
-                      check_shapes, check_wavelengths, plain, shown)
+from .memory import check_fits, map_rays
+from ._common import (LOST_FLAGS, check_numbers, check_offsets, check_polarisation,
+                      check_ray_inputs, check_shapes, check_wavelengths, lost_codes, plain,
+                      prism_sample_shape, shown, summarise_loss)
 from .total_reflection import (Requirement, beam_blocked, beam_passes, check_requirements,
                                extinction_at_least, power_at_least, power_at_most)
 
@@ -46,6 +49,12 @@ def default_requirements(prism, wavelength_um=None):
     beam (e.g. ``"ee"``) must pass and the rejected one (``"oo"``) must be totally reflected at
     the gap. Otherwise every beam carrying at least 1 % of unpolarised input at normal incidence
     (at `wavelength_um`, default the design wavelength) must pass.
+
+    Raises
+    ------
+    ValueError
+        In one line, when no beam leaves the prism at normal incidence (naming each beam and
+        why it is lost there): there is no field to map.
 
     Parameters
     ----------
@@ -67,16 +76,31 @@ def default_requirements(prism, wavelength_um=None):
         other = "e" if mode == "o" else "o"
         return (beam_passes(mode * crystals), beam_blocked(other * crystals))
     lam = prism.design_wavelength_um if wavelength_um is None else float(wavelength_um.flat[0])
-    result = prism.trace(lam, 0.0, 0.0)
-    main = [label for label in sorted(result.beams) if float(result.power(label)) >= 0.01]
+    result = prism.trace(lam, 0.0, 0.0, power_threshold=0.0)
+    # The spec is about total reflection (the clear aperture is not part of it, see
+    # field_of_view): a beam counts unless it is totally reflected, misses a surface or
+    # carries under 1 % of the input.
+    main = [label for label in sorted(result.beams) if float(result.power(label)) >= 0.01
+            and not np.any(lost_codes(result.beams[label].flags, result.power(label))
+                           & ~TraceFlag.OUTSIDE_APERTURE)]
+    if not main:
+        # No beam to keep inside a field: say why instead of handing on an empty spec.
+        why = "; ".join(_why_not_main(label, beam, float(result.power(label)))
+                        for label, beam in result.beams.items()) or "no beam is traced"
+        raise ValueError(f"no default field-of-view spec for this {prism.kind} prism: no beam "
+                         f"leaves it at normal incidence at {lam:g} µm ({why}); pass "
+                         f"requirements explicitly or change the design")
     return tuple(beam_passes(b) for b in main)
 
 
-def _trace(prism, wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm, polarisation):
-    # power_threshold=0 keeps branches that are dead on every ray (a fully reflected rejected
-    # beam), so their geometry is available for the margins.
-    return prism.trace(wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm=offset_mm,
-                       polarisation=polarisation, power_threshold=0.0)
+def _why_not_main(label, beam, power):
+    """Why a beam of a single-ray unpolarised trace is no main beam, as a short phrase."""
+    flags = int(np.bitwise_or.reduce(np.ravel(beam.flags)))
+    if flags & LOST_FLAGS:
+        return summarise_loss(label, lost_codes(flags, power))
+    if flags & TraceFlag.FRUSTRATED_TOTAL_REFLECTION:
+        return f"{label!r} is totally reflected at a thin layer ({power:.3g} of the input tunnels)"
+    return f"{label!r} carries {power:.3g} of the input"
 
 
 def requirement_margins(prism, wavelength_um, in_plane_deg, out_of_plane_deg, requirements, *,
@@ -111,15 +135,29 @@ def requirement_margins(prism, wavelength_um, in_plane_deg, out_of_plane_deg, re
     polarisation = check_polarisation(polarisation)[0]
     lam, in_plane, out_of_plane, offset = check_ray_inputs(
         wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm,
-        *(() if isinstance(polarisation, str) else (("polarisation", polarisation.shape, 1),)))
+        *(() if isinstance(polarisation, str) else (("polarisation", polarisation.shape, 1),)),
+        prism=prism)
     if all(r.kind in ("passes", "blocked") for r in requirements):
         # Geometry does not depend on the input polarisation: one diagonal input instead of
         # the incoherent pair halves the work.
         polarisation = (np.sqrt(0.5), np.sqrt(0.5))
-    result = _trace(prism, lam, in_plane, out_of_plane, offset, polarisation)
-    system = prism.system()
-    shape = np.broadcast_shapes(lam.shape, in_plane.shape, out_of_plane.shape, offset.shape[:-1])
-    return np.stack([np.broadcast_to(r.margin(result, system), shape) for r in requirements])
+    shape = np.broadcast_shapes(lam.shape, in_plane.shape, out_of_plane.shape, offset.shape[:-1],
+                                prism_sample_shape(prism),
+                                *(() if isinstance(polarisation, str)
+                                  else (np.shape(polarisation)[:-1],)))
+
+    def per_ray(result, traced_prism):
+        system = traced_prism.system()
+        ray_shape = np.shape(result.power(next(iter(result.beams))))
+        return {i: np.broadcast_to(r.margin(result, system), ray_shape)
+                for i, r in enumerate(requirements)}
+
+    # power_threshold=0 keeps branches that are dead on every ray (a fully reflected rejected
+    # beam), so their geometry is available for the margins.
+    margins = map_rays(prism, lam, in_plane, out_of_plane, offset, per_ray,
+                       what="requirement_margins", polarisation=polarisation,
+                       power_threshold=0.0)
+    return np.stack([np.broadcast_to(margins[i], shape) for i in range(len(requirements))])
 
 
 @dataclass(frozen=True)
@@ -297,7 +335,11 @@ def field_of_view(prism, wavelength_um=None, *, requirements=None, half_range_de
         In one line, for a `prism` that is not a :class:`~prismdesign.prisms.Prism`, bad
         wavelengths, `requirements` that are not distinct Requirement objects, an even or
         too small `steps`, `half_range_deg` outside (0, 90), more than one entry point, a
-        `refine` that is not True or False, or a `tolerance_deg` that is not positive.
+        `refine` that is not True or False, a `tolerance_deg` that is not positive, a prism
+        from which no beam leaves (without explicit `requirements`, see
+        :func:`default_requirements`), or maps that would not fit in
+        :data:`~prismdesign.analysis.memory.MEMORY_LIMIT_BYTES` (refused before allocating,
+        with the estimate; the traces behind the maps run in chunks).
     """
     check_prism(prism)
     lam = check_wavelengths(prism.design_wavelength_um if wavelength_um is None
@@ -314,6 +356,12 @@ def field_of_view(prism, wavelength_um=None, *, requirements=None, half_range_de
     tolerance_deg = check_positive("tolerance_deg", plain(tolerance_deg))
     requirements = check_requirements(default_requirements(prism, lam) if requirements is None
                                       else requirements, distinct=True)
+    # The maps alone (margins in float, pass/fail in bool, per requirement and combined) must
+    # fit; the traces behind them are done in chunks.
+    points = lam.size * steps * steps
+    check_fits("field_of_view", points * (9 * len(requirements) + 1),
+               f"{lam.size} wavelength(s) × {steps} × {steps} incidence angles × "
+               f"{len(requirements)} requirement(s), 9 bytes each", "use fewer steps")
     names = [r.name for r in requirements]
     angles = np.linspace(-half, half, steps)
     margins = requirement_margins(prism, lam[..., None, None], angles, angles[:, None],

@@ -26,10 +26,12 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from ..optics import TraceFlag
 from ..optics.vectors import closest_approach, cross, dot, norm
 from ..prisms.base import check_finite, check_prism
-from ._common import check_ray_inputs, check_wavelengths, input_direction_deg
+from ._common import (BELOW_POWER_FLOOR, check_ray_inputs, check_wavelengths, input_direction_deg, lost_codes,
+                      missing_pair_reason, rank_beams, strip_pair, summarise_loss,
+                      warn_missing)
+from .memory import map_rays
 
 __all__ = ["main_beams", "exit_wave_paths", "optical_path_difference", "shear_mm",
            "Localisation", "fringe_localisation", "small_angle_estimates", "PARALLEL_LIMIT"]
@@ -38,11 +40,6 @@ __all__ = ["main_beams", "exit_wave_paths", "optical_path_difference", "shear_mm
 #: localisation plane is at infinity).
 PARALLEL_LIMIT = 1e-12
 
-#: Polarisation used for geometric traces: diagonal, so both eigen-polarisations of common
-#: two-beam devices are excited.
-_DIAGONAL = (np.sqrt(0.5), np.sqrt(0.5))
-
-
 def main_beams(prism, wavelength_um=None):
     """The two beams carrying the most power for unpolarised input at normal incidence.
 
@@ -50,16 +47,28 @@ def main_beams(prism, wavelength_um=None):
     -------
     tuple of str
         Two labels in alphabetical order (e.g. ``("eo", "oe")``).
+
+    Raises
+    ------
+    ValueError
+        In one line, naming the missing beam and why, when fewer than two beams leave the
+        prism there (a polariser, or a beam totally reflected).
     """
     check_prism(prism)
     lam = (prism.design_wavelength_um if wavelength_um is None
            else float(np.ravel(check_wavelengths(wavelength_um))[0]))
-    result = prism.trace(lam, 0.0, 0.0)
-    ranked = sorted(result.beams, key=lambda label: -float(result.power(label)))
+    result = prism.trace(lam, 0.0, 0.0, power_threshold=0.0)
+    power = {label: result.power(label) for label in result.beams}
+    lost = {label: lost_codes(np.bitwise_or.reduce(beam.flags, axis=0), power[label])
+            for label, beam in result.beams.items()}
+    ranked = rank_beams(power, 2, lost=lost)
     if len(ranked) < 2:
-        raise ValueError(f"{prism.kind} prism gives fewer than two beams ({ranked}); "
-                         f"interference needs two")
-    return tuple(sorted(ranked[:2]))
+        flags = {label: np.bitwise_or.reduce(beam.flags, axis=0)
+                 for label, beam in result.beams.items()}
+        raise ValueError(missing_pair_reason(f"interference of the {prism.kind} prism at "
+                                             f"{lam:g} µm", ranked, lost, power, flags)
+                         .replace("the pair figures are NaN", "pass beams=(a, b) to choose"))
+    return tuple(sorted(ranked))
 
 
 def _pair(prism, beams, wavelength_um):
@@ -69,37 +78,75 @@ def _pair(prism, beams, wavelength_um):
     return beams
 
 
-def _trace_pair(prism, beams, wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm,
-                within_aperture=True):
-    result = prism.trace(wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm=offset_mm,
-                         polarisation=_DIAGONAL, power_threshold=0.0)
+_GEOMETRY = ("exit_mm", "wave_vector", "path_mm", "direction")
+
+
+def _trace_pair(prism, beams, what, wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm):
+    """Exit geometry of the two beams per ray, NaN where either is lost, with their codes.
+
+    An unpolarised trace (geometry is that of either member of the pair; powers add) so that
+    a beam counts as existing by the power it carries for unpolarised light, whatever the
+    prism's turn about z. No pruning, so both labels exist.
+
+    Returns
+    -------
+    geometry : tuple of two dicts
+        "exit_mm", "wave_vector", "path_mm" (see :func:`exit_wave_paths`) and "direction".
+    lost : dict[str, ndarray of int]
+        Reason codes of each beam (see :func:`~prismdesign.analysis.lost_codes`).
+
+    Raises
+    ------
+    ValueError
+        When a label is not traced, or one of the beams is lost at every point.
+
+    Warns
+    -----
+    MissingBeamWarning
+        When one of the beams is lost at some points (the figures are NaN there).
+    """
+    def per_ray(result, traced_prism):
+        out = {}
+        for label in beams:
+            if label not in result.beams:
+                raise ValueError(f"beam {label!r} is not among the traced beams "
+                                 f"{sorted(result.beams)}")
+            beam = strip_pair(result.beams[label], result.incoherent_pair)
+            for name, value in zip(_GEOMETRY, (*exit_wave_paths(beam), beam.exit_direction)):
+                out[label, name] = value
+            out[label, "lost"] = lost_codes(beam.flags, beam.power)
+        return out
+
+    table = map_rays(prism, wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm, per_ray,
+                     what=what, power_threshold=0.0,
+                     fill=lambda key: BELOW_POWER_FLOOR if key[1] == "lost" else np.nan)
+    lost = {label: table[label, "lost"] for label in beams}
+    either = (lost[beams[0]] != 0) | (lost[beams[1]] != 0)
     for label in beams:
-        if label not in result.beams:
-            raise ValueError(f"beam {label!r} is not among the traced beams {sorted(result.beams)}")
-    a, b = result.beams[beams[0]], result.beams[beams[1]]
-    # A path difference is only meaningful for rays that really cross the prism: refuse rays
-    # outside a clear aperture, missing a surface or stopped by total internal reflection. The
-    # localisation plane only uses the (affine) geometry of the plane faces, so there rays
-    # clipped by an aperture edge still count (`within_aperture=False`).
-    flags = np.bitwise_or(a.flags, b.flags)
-    if not within_aperture:
-        flags = flags & ~TraceFlag.OUTSIDE_APERTURE
-    for bit, what in ((TraceFlag.OUTSIDE_APERTURE, "leave the clear aperture"),
-                      (TraceFlag.MISSED_SURFACE, "miss a surface"),
-                      (TraceFlag.TOTAL_INTERNAL_REFLECTION, "are totally reflected"),
-                      (TraceFlag.SINGULAR, "meet a surface at grazing incidence")):
-        if np.any(flags & bit):
-            raise ValueError(f"some rays of beams {beams[0]!r}/{beams[1]!r} {what} for these "
-                             f"inputs (offset_mm within ±{0.5 * prism.width_mm:g} mm, moderate "
-                             f"angles); interference quantities need rays through the prism")
-    return a, b
+        if np.all(lost[label] != 0):
+            raise ValueError(f"{what}: beams {beams[0]!r} and {beams[1]!r} never both leave "
+                             f"the prism for these inputs: {summarise_loss(label, lost[label])}")
+    if np.any(either):
+        causes = "; ".join(summarise_loss(label, lost[label]) for label in beams
+                           if np.any(lost[label]))
+        warn_missing(f"{what}: NaN where a beam is lost ({causes})")
+    geometry = []
+    for label in beams:
+        values = {}
+        for name in _GEOMETRY:
+            v = table[label, name]
+            values[name] = np.where(either[..., None] if v.ndim > either.ndim else either,
+                                    np.nan, v)
+        geometry.append(values)
+    return tuple(geometry), lost
 
 
 def _checked_rays(prism, wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm, plane_z_mm):
     """Validate the common inputs; returns wavelength, angles, offsets and the plane's z."""
     check_prism(prism)
     lam, in_plane, out_of_plane, offset = check_ray_inputs(wavelength_um, in_plane_deg,
-                                                           out_of_plane_deg, offset_mm)
+                                                           out_of_plane_deg, offset_mm,
+                                                           prism=prism)
     z = prism.exit_z_mm if plane_z_mm is None else check_finite("plane_z_mm", plane_z_mm)
     return lam, in_plane, out_of_plane, offset, z
 
@@ -123,14 +170,14 @@ def exit_wave_paths(beam):
 
 
 def _phase_at(beam, points_mm):
-    exit_mm, k, path = exit_wave_paths(beam)
-    return path + dot(k, points_mm - exit_mm)
+    """Phase (optical path, mm) of a beam's exit plane wave at points (geometry dict)."""
+    return beam["path_mm"] + dot(beam["wave_vector"], points_mm - beam["exit_mm"])
 
 
 def _on_plane(beam, plane_z_mm):
     """Where the exit rays cross the plane z = plane_z_mm (shape (..., 3))."""
-    d = beam.exit_direction
-    r = beam.exit_position_mm
+    d = beam["direction"]
+    r = beam["exit_mm"]
     t = (plane_z_mm - r[..., 2]) / d[..., 2]
     return r + t[..., None] * d
 
@@ -165,12 +212,26 @@ def optical_path_difference(prism, wavelength_um, offset_mm=(0.0, 0.0), *, beams
     Returns
     -------
     ndarray
-        OPD in mm, broadcast shape of the inputs.
+        OPD in mm, broadcast shape of the inputs; NaN where either beam is lost (the rule of
+        :func:`~prismdesign.analysis.lost_codes`: totally reflected, missed a surface, outside
+        the clear aperture, grazing incidence, or power below the floor for unpolarised light).
+
+    Raises
+    ------
+    ValueError
+        In one line, for bad inputs, a pair of beams that does not exist (naming the missing
+        beam and why), or one of the beams lost at every point.
+
+    Warns
+    -----
+    MissingBeamWarning
+        When one of the beams is lost at some points, saying which, why and where.
     """
     lam, in_plane, out_of_plane, offset, z = _checked_rays(
         prism, wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm, plane_z_mm)
     beams = _pair(prism, beams, lam)
-    a, b = _trace_pair(prism, beams, lam, in_plane, out_of_plane, offset)
+    (a, b), _ = _trace_pair(prism, beams, "optical_path_difference", lam, in_plane,
+                            out_of_plane, offset)
     point = 0.5 * (_on_plane(a, z) + _on_plane(b, z))
     return _phase_at(a, point) - _phase_at(b, point)
 
@@ -190,12 +251,16 @@ def shear_mm(prism, wavelength_um, offset_mm=(0.0, 0.0), *, beams=None, in_plane
     -------
     ndarray, shape (..., 2)
         (x, y) position of beam a minus that of beam b on the plane (mm); the shear length is
-        ``np.hypot(*s.T)``.
+        ``np.hypot(*s.T)``. NaN where either beam is lost.
+
+    Raises, Warns
+    -------------
+    As for :func:`optical_path_difference`.
     """
     lam, in_plane, out_of_plane, offset, z = _checked_rays(
         prism, wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm, plane_z_mm)
     beams = _pair(prism, beams, lam)
-    a, b = _trace_pair(prism, beams, lam, in_plane, out_of_plane, offset)
+    (a, b), _ = _trace_pair(prism, beams, "shear_mm", lam, in_plane, out_of_plane, offset)
     return (_on_plane(a, z) - _on_plane(b, z))[..., :2]
 
 
@@ -211,12 +276,15 @@ class Localisation:
         Entry points across the aperture (y = 0).
     points_mm : ndarray, shape W + (samples, 3)
         Midpoints of closest approach of the two rays from each entry point (global frame, mm);
-        inf where the rays are parallel.
+        NaN where the rays are parallel or either beam is lost at that entry point.
     gap_mm : ndarray, shape W + (samples,)
-        Closest distance between the two rays (0 when they cross).
+        Closest distance between the two rays (0 when they cross); NaN where a beam is lost.
     opd_mm : ndarray, shape W + (samples,)
         OPD (a − b, mm) at those points; for parallel exit rays the uniform OPD between the
-        two exit plane waves (fringes at infinity).
+        two exit plane waves (fringes at infinity). NaN where a beam is lost.
+    lost : dict[str, ndarray of int, shape W + (samples,)]
+        Reason codes of both beams at each entry point (0: the beam exists); the locus line is
+        fitted through the points where both exist (NaN with fewer than two).
     z_at_axis_mm : ndarray, shape W
         z of the fitted locus line at x = 0 (the entrance face is z = 0); inf at infinity.
     distance_from_exit_mm : ndarray, shape W
@@ -243,6 +311,7 @@ class Localisation:
     split_deg: np.ndarray
     at_infinity: np.ndarray
     small_angle: dict = field(default_factory=dict)
+    lost: dict = field(default_factory=dict)
 
 
 def _boundary_z(boundary, x_mm=0.0):
@@ -292,32 +361,40 @@ def fringe_localisation(prism, wavelength_um=None, *, beams=None, in_plane_deg=0
     # Entry points along the prism's own x axis (it may be turned about z).
     turn = np.deg2rad(prism.rotation_deg)
     offsets = np.stack([x * np.cos(turn), x * np.sin(turn)], axis=-1)
-    a, b = _trace_pair(prism, beams, lam[..., None], in_plane_deg, out_of_plane_deg, offsets,
-                       within_aperture=False)
-    mid, gap, parallel = closest_approach(a.exit_position_mm, a.exit_direction,
-                                          b.exit_position_mm, b.exit_direction, PARALLEL_LIMIT)
-    at_inf = parallel.any(axis=-1)
+    (a, b), lost = _trace_pair(prism, beams, "fringe_localisation", lam[..., None],
+                               in_plane_deg, out_of_plane_deg, offsets)
+    mid, gap, parallel = closest_approach(a["exit_mm"], a["direction"], b["exit_mm"],
+                                          b["direction"], PARALLEL_LIMIT)
+    valid = (lost[beams[0]] == 0) & (lost[beams[1]] == 0)
+    gap = np.where(valid, gap, np.nan)
+    at_inf = (parallel & valid).any(axis=-1)
     # Parallel exit waves differ in phase by the same amount everywhere (the OPD of fringes at
     # infinity, e.g. in a lens's focal plane): evaluate it at beam a's exit point.
-    finite_mid = np.where(parallel[..., None], a.exit_position_mm, mid)
+    finite_mid = np.where(parallel[..., None], a["exit_mm"], mid)
     opd = _phase_at(a, finite_mid) - _phase_at(b, finite_mid)
-    # Least-squares line z = z0 + slope·x through the locus points, batched over wavelength.
+    # Least-squares line z = z0 + slope·x through the locus points where both beams exist,
+    # batched over wavelength (NaN with fewer than two such points).
     px = finite_mid[..., 0] * np.cos(turn) + finite_mid[..., 1] * np.sin(turn)
     pz = finite_mid[..., 2]
-    mx, mz = px.mean(axis=-1), pz.mean(axis=-1)
+    count = valid.sum(axis=-1)
     with np.errstate(invalid="ignore", divide="ignore"):
-        slope = (((px - mx[..., None]) * (pz - mz[..., None])).sum(axis=-1)
-                 / ((px - mx[..., None]) ** 2).sum(axis=-1))
+        mx = np.where(valid, px, 0.0).sum(axis=-1) / count
+        mz = np.where(valid, pz, 0.0).sum(axis=-1) / count
+        dx = np.where(valid, px - mx[..., None], 0.0)
+        dz = np.where(valid, pz - mz[..., None], 0.0)
+        slope = np.where(count >= 2, (dx * dz).sum(axis=-1) / (dx * dx).sum(axis=-1), np.nan)
+        # arctan2(|a × b|, a·b): exact zero for parallel waves, full precision for small
+        # splits; averaged over the entry points where both beams exist.
+        angles = np.rad2deg(np.arctan2(norm(cross(a["direction"], b["direction"])),
+                                       dot(a["direction"], b["direction"])))
+        split = np.where(valid, angles, 0.0).sum(axis=-1) / count
     # [()] turns 0-d results into scalars (scalar wavelength in, scalars out).
     z0 = np.where(at_inf, np.inf, mz - slope * mx)[()]
     tilt = np.where(at_inf, np.nan, np.rad2deg(np.arctan(slope)))[()]
-    # arctan2(|a × b|, a·b): exact zero for parallel waves, full precision for small splits.
-    split = np.rad2deg(np.arctan2(norm(cross(a.exit_direction, b.exit_direction)),
-                                  dot(a.exit_direction, b.exit_direction))).mean(axis=-1)
     return Localisation(wavelength_um=lam, beams=beams, entry_x_mm=x, points_mm=mid, gap_mm=gap,
                         opd_mm=opd, z_at_axis_mm=z0,
                         distance_from_exit_mm=z0 - _boundary_z(prism.boundaries[-1]),
-                        tilt_deg=tilt, split_deg=split, at_infinity=at_inf,
+                        tilt_deg=tilt, split_deg=split, at_infinity=at_inf, lost=lost,
                         small_angle=small_angle_estimates(prism, lam))
 
 

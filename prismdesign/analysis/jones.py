@@ -18,7 +18,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..prisms.base import check_flag, check_prism
-from ._common import check_ray_inputs, shown
+from ._common import check_ray_inputs, prism_sample_shape, shown
+from .memory import check_fits, trace_bytes_per_ray
 
 __all__ = ["JonesResult", "jones_matrices", "mueller_from_jones", "stokes_from_jones"]
 
@@ -131,12 +132,27 @@ def jones_matrices(prism, wavelength_um, in_plane_deg=0.0, out_of_plane_deg=0.0,
     Returns
     -------
     JonesResult
-        Matrices carry the broadcast shape of the inputs before their last two axes.
+        Matrices carry the broadcast shape of the inputs before their last two axes. A branch
+        totally reflected has a zero matrix; rays outside the clear aperture are traced as if
+        the prism extended beyond it (see :func:`~prismdesign.analysis.split` for `lost`).
+
+    Raises
+    ------
+    ValueError
+        In one line, for bad inputs, inputs that do not broadcast with the prism's optic-axis
+        samples, or traces that would not fit in
+        :data:`~prismdesign.analysis.memory.MEMORY_LIMIT_BYTES` (refused with the estimate).
     """
     check_prism(prism)
     wavelength_um, in_plane, out_of_plane, offset_mm = check_ray_inputs(
-        wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm)
+        wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm, prism=prism)
     include_path_phase = check_flag("include_path_phase", include_path_phase)
+    rays = int(np.prod(np.broadcast_shapes(wavelength_um.shape, in_plane.shape,
+                                           out_of_plane.shape, offset_mm.shape[:-1],
+                                           prism_sample_shape(prism))))
+    per = trace_bytes_per_ray(prism)
+    check_fits("jones_matrices", 2 * rays * per, f"{rays} rays × 2 input polarisations × "
+               f"{per} bytes", "ask for fewer points")
     # No pruning: a branch must exist in both traces to fill both columns.
     traces = [prism.trace(wavelength_um, in_plane, out_of_plane, offset_mm=offset_mm,
                           polarisation=pol, power_threshold=0.0)

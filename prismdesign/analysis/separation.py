@@ -23,7 +23,10 @@ import numpy as np
 from ..optics.vectors import cross, norm, normalize
 from ..prisms.base import check_finite, check_prism
 from ._common import (as_output, check_main_labels, check_numbers, check_ray_inputs,
-                      check_shapes, check_wavelengths, plain, rank_beams, strip_pair)
+                      check_shapes, check_wavelengths, lost_codes, missing_pair_reason, plain,
+                      prism_sample_shape, rank_beams, strip_pair, warn_missing)
+from .deviation import _mean_or_inf, beam_table
+from .memory import map_rays
 
 __all__ = ["SeparationResult", "separation", "gaussian_beam_radius_mm"]
 
@@ -81,36 +84,43 @@ class SeparationResult:
         z of the observation plane (prism exit + distance).
     labels : tuple of str
     main_labels : tuple of str
-        The two strongest beams (unpolarised power, as in :func:`split`), ordered by their x on
-        the plane; fewer when fewer beams carry power (then the pair quantities are None).
+        The two strongest beams (unpolarised power where they exist, as in :func:`split`),
+        ordered by their mean x on the plane; fewer when fewer beams carry power (then the pair
+        quantities are NaN and `reason` says why).
     exit_position_mm, position_mm : dict[str, ndarray, shape (..., 3)]
-        Where each beam leaves the prism and where it meets the plane.
+        Where each beam leaves the prism and where it meets the plane; NaN where it is lost.
     power : dict[str, ndarray]
-        Unpolarised power of each beam (fraction of the input).
+        Unpolarised power of each beam (fraction of the input), as traced.
     flags : dict[str, ndarray of int]
-        :class:`~prismdesign.optics.TraceFlag` bits of each beam, per ray. Positions and
-        separations are computed for every ray, also for one that left the clear aperture
-        (``OUTSIDE_APERTURE``: the prism is treated as extending beyond it), was totally
-        reflected or missed a surface: check ``flags[label] == 0`` before trusting a value.
-    separation_mm : ndarray or None
-        Distance between the two main beams on the plane.
-    exit_offset_mm : ndarray, shape (..., 3), or None
-        Exit position of the second main beam minus that of the first.
-    lateral_offset_mm : ndarray or None
+        :class:`~prismdesign.optics.TraceFlag` bits of each beam, per ray, as traced.
+    lost : dict[str, ndarray of int]
+        Per ray, why each beam does not exist there (0: it does); the codes of
+        :attr:`SplitResult.lost`, in words with :func:`~prismdesign.analysis.describe_lost`.
+    separation_mm : ndarray
+        Distance between the two main beams on the plane; NaN where either is lost.
+    exit_offset_mm : ndarray, shape (..., 3)
+        Exit position of the second main beam minus that of the first (NaN where either is
+        lost).
+    lateral_offset_mm : ndarray
         Length of `exit_offset_mm` across the bisector of the two exit directions: the lateral
         offset (shear) of a displacer or Savart plate, whose beams leave parallel. Exit
         quantities do not depend on the plane, so they lack the axes of `distance_mm`.
     reduced_distance_mm : dict[str, ndarray] or None
-        Free-space-equivalent distance Σ L/n from the entrance face to the plane (with a waist).
+        Free-space-equivalent distance Σ L/n from the entrance face to the plane (with a
+        waist); NaN where the beam is lost.
     beam_radius_mm : dict[str, ndarray] or None
-        1/e² radius of each beam at the plane (with a waist).
+        1/e² radius of each beam at the plane (with a waist); NaN where the beam is lost.
     divergence_deg : ndarray or None
         Far-field half-angle M² λ / (π w0) of the input beam (degrees).
     clearance : ndarray or None
         (separation − (w_a + w_b)) / max(w_a, w_b): the gap between the two main beams' 1/e²
-        circles in units of the larger radius.
+        circles in units of the larger radius; NaN where either beam is lost.
     resolved : ndarray of bool or None
-        clearance > `min_clearance`.
+        clearance > `min_clearance`; False where either beam is lost (beams that do not exist
+        are not resolved).
+    reason : str
+        "" when two main beams exist; else why not (also a
+        :class:`~prismdesign.analysis.MissingBeamWarning`).
     """
 
     plane_z_mm: object
@@ -120,6 +130,7 @@ class SeparationResult:
     position_mm: dict
     power: dict
     flags: dict
+    lost: dict
     separation_mm: object = None
     exit_offset_mm: object = None
     lateral_offset_mm: object = None
@@ -128,10 +139,11 @@ class SeparationResult:
     divergence_deg: object = None
     clearance: object = None
     resolved: object = None
+    reason: str = ""
 
 
-def _reduced_distance_mm(beam, plane_position_mm):
-    """Σ L/n from the entrance point to the plane along the beam's polyline.
+def _inside_reduced_distance_mm(beam):
+    """Σ L/n from the entrance point to the exit point along the beam's polyline.
 
     positions_mm[0] is the start point in front of the prism, [1] the entrance point; segment i
     (from point i to point i + 1) lies in the medium of phase index indices[i].
@@ -140,7 +152,24 @@ def _reduced_distance_mm(beam, plane_position_mm):
     total = np.zeros(points.shape[1:-1])
     for i in range(1, points.shape[0] - 1):
         total = total + norm(points[i + 1] - points[i]) / beam.indices[i]
-    return total + norm(plane_position_mm - points[-1]) / beam.indices[-1]
+    return total
+
+
+def _separation_per_ray(result, traced_prism):
+    """Per-ray exit geometry, power and flags of every beam, keyed (label, field)."""
+    out = {}
+    for label, beam in result.beams.items():
+        beam = strip_pair(beam, result.incoherent_pair)
+        out[label, "exit_position_mm"] = beam.exit_position_mm
+        out[label, "direction"] = beam.exit_direction
+        out[label, "exit_index"] = beam.indices[-1]
+        out[label, "inside_mm"] = _inside_reduced_distance_mm(beam)
+        out[label, "power"] = beam.power
+        out[label, "flags"] = beam.flags
+    return out
+
+
+_DROPPED = {"power": 0.0, "flags": 0}
 
 
 def separation(prism, wavelength_um, distance_mm, in_plane_deg=0.0, out_of_plane_deg=0.0, *,
@@ -180,15 +209,23 @@ def separation(prism, wavelength_um, distance_mm, in_plane_deg=0.0, out_of_plane
     ValueError
         In one line, for a `prism` that is not a :class:`~prismdesign.prisms.Prism`, text,
         booleans, complex or non-finite numbers, wavelengths <= 0, distances < 0, angles outside
-        (−90, 90), waists <= 0, M² < 1, inputs that do not broadcast together, or unknown
-        `main_labels`.
+        (−90, 90), waists <= 0, M² < 1, inputs (or the prism's optic-axis samples) that do not
+        broadcast together, unknown `main_labels`, or results that would not fit in
+        :data:`~prismdesign.analysis.memory.MEMORY_LIMIT_BYTES`.
+
+    Warns
+    -----
+    MissingBeamWarning
+        When fewer than two main beams leave the prism anywhere; the same text is in
+        :attr:`SeparationResult.reason`.
 
     Notes
     -----
     Separation is measured on the plane; radii are measured across each beam. For the few
     degrees of deviation of beam-splitting prisms the difference (a factor 1/cos of the
-    deviation on the footprint) is below 0.2 %. Rays that leave the clear aperture are still
-    traced and reported; :attr:`SeparationResult.flags` marks them.
+    deviation on the footprint) is below 0.2 %. Where a beam is lost
+    (:attr:`SeparationResult.lost`, the rule of :func:`split`) its positions and radius are
+    NaN, and so is every pair figure where either main beam is lost.
     """
     check_prism(prism)
     distance = check_numbers("distance_mm", distance_mm, "finite distances in mm, >= 0",
@@ -200,35 +237,62 @@ def separation(prism, wavelength_um, distance_mm, in_plane_deg=0.0, out_of_plane
         waist, m2 = _check_beam(waist_mm, m_squared)
         extra += [("waist_mm", waist.shape), ("m_squared", m2.shape)]
     wavelength, in_plane, out_of_plane, offset = check_ray_inputs(
-        wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm, *extra)
-    result = prism.trace(wavelength, in_plane, out_of_plane, offset_mm=offset,
-                         polarisation="unpolarised")
-    beams = {label: strip_pair(beam, result.incoherent_pair) for label, beam in result.beams.items()}
+        wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm, *extra, prism=prism)
+    flat = map_rays(prism, wavelength, in_plane, out_of_plane, offset, _separation_per_ray,
+                    what="separation", fill=lambda key: _DROPPED.get(key[1], np.nan))
+    table = {}
+    for (label, name), value in flat.items():
+        table.setdefault(label, {})[name] = value
     plane_z = prism.exit_z_mm + distance
-    point = np.zeros(np.shape(plane_z) + (3,))
-    point[..., 2] = plane_z
-    position = {label: beam.at_plane(point, (0.0, 0.0, 1.0))[0] for label, beam in beams.items()}
-    power = {label: as_output(beam.power) for label, beam in beams.items()}
+    position, exits, lost, reduced = {}, {}, {}, {}
+    for label, v in table.items():
+        lost[label] = lost_codes(v["flags"], v["power"])
+        gone = (lost[label] != 0)[..., None]
+        r = np.where(gone, np.nan, v["exit_position_mm"])
+        d = np.where(gone, np.nan, v["direction"])
+        with np.errstate(divide="ignore", invalid="ignore"):
+            t = (plane_z - r[..., 2]) / np.where(d[..., 2] != 0, d[..., 2], np.nan)
+        position[label] = r + t[..., None] * d
+        exits[label] = (r, d)
+        reduced[label] = (np.where(gone[..., 0], np.nan, v["inside_mm"])
+                          + norm(position[label] - r) / v["exit_index"])
+    power = {label: v["power"] for label, v in table.items()}
     if main_labels is None:
-        main = rank_beams({label: beam.power for label, beam in beams.items()}, 2)
+        main = rank_beams(power, 2, lost=lost)
     else:
-        main = check_main_labels(main_labels, beams, 2)
+        main = check_main_labels(main_labels, table, 2)
         if len(main) > 2:
             raise ValueError(f"main_labels must name two beams, got {main_labels!r}")
-    main = tuple(sorted(main, key=lambda label: (float(np.mean(position[label][..., 0])), label)))
-    values = dict(plane_z_mm=as_output(plane_z), labels=tuple(beams), main_labels=main,
-                  exit_position_mm={label: beam.exit_position_mm for label, beam in beams.items()},
-                  position_mm=position, power=power,
-                  flags={label: as_output(beam.flags) for label, beam in beams.items()})
+    main = tuple(sorted(main, key=lambda label: (_mean_or_inf(position[label][..., 0]), label)))
+    shape = np.broadcast_shapes(np.shape(plane_z), wavelength.shape, in_plane.shape,
+                                out_of_plane.shape, offset.shape[:-1], prism_sample_shape(prism),
+                                *(np.shape(v) for v in power.values()))
+    values = dict(plane_z_mm=as_output(plane_z), labels=tuple(table), main_labels=main,
+                  exit_position_mm={label: e[0] for label, e in exits.items()},
+                  position_mm=position, power={label: as_output(p) for label, p in power.items()},
+                  flags={label: as_output(v["flags"]) for label, v in table.items()},
+                  lost={label: as_output(v) for label, v in lost.items()})
+    nan = np.full(shape, np.nan)
     if len(main) == 2:
         a, b = main
         values["separation_mm"] = as_output(norm(position[b] - position[a]))
-        offset = beams[b].exit_position_mm - beams[a].exit_position_mm
-        axis = normalize(beams[a].exit_direction + beams[b].exit_direction)
+        offset = exits[b][0] - exits[a][0]
+        axis = normalize(exits[a][1] + exits[b][1])
         values["exit_offset_mm"] = offset
         values["lateral_offset_mm"] = as_output(norm(cross(axis, offset)))
+    else:
+        values["separation_mm"] = as_output(nan)
+        values["exit_offset_mm"] = np.full(shape + (3,), np.nan)
+        values["lateral_offset_mm"] = as_output(nan.copy())
+        if main_labels is None:
+            # Trace again without pruning to say which beam is missing and why.
+            extra = beam_table(prism, wavelength, in_plane, out_of_plane, offset,
+                               "separation", power_threshold=0.0)
+            values["reason"] = missing_pair_reason(
+                "separation", main, *({label: v[name] for label, v in extra.items()}
+                                      for name in ("lost", "power", "flags")))
+            warn_missing(values["reason"])
     if waist_mm is not None:
-        reduced = {label: _reduced_distance_mm(beam, position[label]) for label, beam in beams.items()}
         radius = {label: as_output(_radius_mm(waist, wavelength, z, m2))
                   for label, z in reduced.items()}
         values["reduced_distance_mm"] = {label: as_output(z) for label, z in reduced.items()}
@@ -239,5 +303,9 @@ def separation(prism, wavelength_um, distance_mm, in_plane_deg=0.0, out_of_plane
             w_a, w_b = radius[main[0]], radius[main[1]]
             clearance = (values["separation_mm"] - (w_a + w_b)) / np.maximum(w_a, w_b)
             values["clearance"] = as_output(clearance)
+            # A comparison with NaN is False: where a beam is lost the beams are not resolved.
             values["resolved"] = as_output(clearance > min_clearance)
+        else:
+            values["clearance"] = as_output(nan.copy())
+            values["resolved"] = as_output(np.zeros(shape, dtype=bool))
     return SeparationResult(**values)

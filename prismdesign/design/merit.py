@@ -17,27 +17,17 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from ..analysis._common import rank_beams, strip_pair
+from ..analysis._common import (LOST_FLAGS, LOST_POWER_FLOOR, describe_lost, lost_codes,
+                                rank_beams, strip_pair)
 from ..analysis.separation import _radius_mm
-from ..optics import TraceFlag
 from ..optics.vectors import cross, dot, norm, normalize
 
 __all__ = ["Figures", "Margin", "Assessment", "figures", "assess", "LOST_FLAGS",
            "POWER_FLOOR"]
 
-#: Flags that mean a beam does not leave the prism as a usable beam at that point.
-LOST_FLAGS = (TraceFlag.TOTAL_INTERNAL_REFLECTION | TraceFlag.OUTSIDE_APERTURE
-              | TraceFlag.MISSED_SURFACE | TraceFlag.SINGULAR)
-
-#: A main beam carrying less than this fraction of the input power (unpolarised) counts as
-#: lost: a split "between" a beam and nothing is not a split.
-POWER_FLOOR = 1e-6
-
-_REASONS = ((TraceFlag.TOTAL_INTERNAL_REFLECTION, "totally reflected"),
-            (TraceFlag.OUTSIDE_APERTURE, "outside the clear aperture"),
-            (TraceFlag.MISSED_SURFACE, "missed a surface"),
-            (TraceFlag.SINGULAR, "grazing a surface"))
-
+#: A main beam carrying less than this fraction of the input power counts as lost: the
+#: analyses' floor, so a design figure and an analysis agree on which beams exist.
+POWER_FLOOR = LOST_POWER_FLOOR
 
 def field_directions_deg(half_angle_deg):
     """Input directions (in-plane, out-of-plane), degrees: on axis, then the field's edges."""
@@ -112,12 +102,8 @@ class Figures:
 
 
 def _lost_reasons(beam, power, floor):
-    """Per-point reason text ("" if present) for a beam with flags and (summed) power."""
-    reason = np.full(power.shape, "", dtype=object)
-    for bit, text in reversed(_REASONS):
-        reason = np.where(beam.flags & bit, text, reason)
-    reason = np.where((reason == "") & (power < floor), "carries no power", reason)
-    return reason
+    """Per-point reason text ("" where present): the analyses' lost-beam rule."""
+    return describe_lost(lost_codes(beam.flags, power, floor))
 
 
 def figures(prism, requirement, *, main_count=None):

@@ -55,7 +55,7 @@ def _table(prism, setup, wavelengths):
                      f"{split.in_plane_deg[a][i]:+.4f}", f"{split.in_plane_deg[b][i]:+.4f}",
                      f"{sep.separation_mm[i]:.3f}", f"{sep.clearance[i]:.2f}",
                      f"{100 * trans.power[a][i]:.2f}", f"{100 * trans.power[b][i]:.2f}",
-                     f"{ext.input_extinction_ratio[a][i]:.2e}", f"{ext.input_extinction_ratio[b][i]:.2e}",
+                     f"{ext.analyser_extinction_ratio[a][i]:.2e}", f"{ext.analyser_extinction_ratio[b][i]:.2e}",
                      f"{ext.leakage_fraction[i]:.1e}"])
     headers = ["wavelength um", "split deg", f"dev {a} deg", f"dev {b} deg",
                "separation mm", "clearance (radii)", f"T {a} %", f"T {b} %",

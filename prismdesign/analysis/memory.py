@@ -1,0 +1,185 @@
+"""How much memory a trace needs, and work on many rays in chunks that fit.
+
+An exact trace keeps, for every ray and every branch, the points, wave normals, ray directions
+and indices at each surface plus the exit field, power, path and flags; the interface solver
+adds working arrays. :func:`trace_bytes_per_ray` bounds this from the prism's layout (surfaces,
+crystals, so the number of branches) before anything is allocated. Analyses that reduce each
+ray to a few numbers (split, separation, transmission, requirement margins, OPD, shear) run
+through :func:`map_rays`, which traces in chunks of the flattened ray axis whenever the whole
+trace would exceed a quarter of :data:`MEMORY_LIMIT_BYTES`; results whose own arrays would
+exceed the limit, and analyses that keep whole traces (Jones matrices, extinction), are refused
+with the estimate in the message. Change the limit by assigning to
+``prismdesign.analysis.memory.MEMORY_LIMIT_BYTES``; it is read at each call.
+"""
+import math
+
+import numpy as np
+
+from ._common import prism_sample_shape
+
+__all__ = ["MEMORY_LIMIT_BYTES", "trace_bytes_per_ray", "format_bytes", "check_fits",
+           "map_rays"]
+
+#: Largest memory (bytes) an analysis may plan to use: 2 GiB. Traces above a quarter of it are
+#: done in chunks; results (or unchunked traces) above it are refused before allocating.
+MEMORY_LIMIT_BYTES = 2 * 2 ** 30
+
+# Bytes per ray and branch for one stored point (position, wave normal, ray direction: 3
+# floats each; index: 1 float), for a branch's exit state (complex field: 3; power, path,
+# flags, wavelength: 1 each) and for a working branch between surfaces (new point, normal, ray,
+# wave vector, complex field, power, path, flags). Measured against tracemalloc peaks in
+# tests/test_analysis_memory.py, where the estimate must stay an upper bound.
+_POINT_BYTES = 80
+_EXIT_BYTES = 80
+_WORKING_BYTES = 176
+# Interface-solver outputs alive while one branch is processed (coefficients, powers, fields,
+# ray directions, wave vectors of four waves) and the flattened inputs.
+_FIXED_BYTES = 2000
+_MEDIUM_BYTES = 40
+
+
+def trace_bytes_per_ray(prism, *, keep_reflections=False):
+    """Upper estimate of the peak memory of tracing one ray (one input polarisation) (bytes).
+
+    Every surface into a crystal may double the branches (no pruning assumed); each branch
+    stores its points at every surface met; reflected branches, when kept, store theirs.
+
+    Parameters
+    ----------
+    prism : Prism
+    keep_reflections : bool
+        As for :meth:`~prismdesign.prisms.Prism.trace`.
+
+    Returns
+    -------
+    int
+        Bytes per ray; double it for unpolarised input (an incoherent pair per ray).
+    """
+    crystal = [False] + [p.is_crystal for p in prism.pieces] + [False]
+    surfaces = len(prism.boundaries)
+    branches, working, reflected = 1, 0, 0
+    for i in range(surfaces):
+        if keep_reflections:
+            reflected += (branches * (2 if crystal[i] else 1)
+                          * ((i + 2) * _POINT_BYTES + _EXIT_BYTES + _WORKING_BYTES))
+        branches *= 2 if crystal[i + 1] else 1
+        working += branches * _WORKING_BYTES
+    stored = branches * ((surfaces + 1) * _POINT_BYTES + _EXIT_BYTES)
+    return stored + working + reflected + _FIXED_BYTES + _MEDIUM_BYTES * (surfaces + 1)
+
+
+def format_bytes(count):
+    """Bytes as readable text with binary prefixes, e.g. "7.3 TiB"."""
+    value = float(count)
+    for unit in ("B", "KiB", "MiB", "GiB", "TiB", "PiB"):
+        if value < 1024 or unit == "PiB":
+            return f"{value:.3g} {unit}" if unit != "B" else f"{int(value)} B"
+        value /= 1024
+
+
+def check_fits(what, estimate_bytes, detail, remedy):
+    """Refuse work whose estimated memory exceeds :data:`MEMORY_LIMIT_BYTES` (one-line error).
+
+    Parameters
+    ----------
+    what : str
+        The analysis, e.g. "field_of_view".
+    estimate_bytes : float
+        Estimated memory.
+    detail : str
+        How the estimate arises, e.g. "1000001 × 1000001 angles × 2 requirements".
+    remedy : str
+        What the user can do, e.g. "use fewer steps".
+    """
+    limit = MEMORY_LIMIT_BYTES
+    if estimate_bytes > limit:
+        raise ValueError(f"{what} would need about {format_bytes(estimate_bytes)} ({detail}), "
+                         f"above the memory limit of {format_bytes(limit)} "
+                         f"(prismdesign.analysis.memory.MEMORY_LIMIT_BYTES); {remedy}")
+
+
+def _flat_prism(prism, shape, start, stop):
+    """The prism with its optic-axis samples broadcast to `shape`, flattened and sliced."""
+    from dataclasses import replace
+    pieces = []
+    for piece in prism.pieces:
+        if piece.optic_axis is None or np.ndim(piece.optic_axis) == 1:
+            pieces.append(piece)
+            continue
+        axes = np.broadcast_to(piece.optic_axis, shape + (3,)).reshape(-1, 3)[start:stop]
+        pieces.append(replace(piece, optic_axis=axes))
+    return replace(prism, pieces=pieces)
+
+
+def map_rays(prism, wavelength, in_plane, out_of_plane, offset, per_ray, *, what,
+             polarisation="unpolarised", fill=None, **trace_options):
+    """Trace the rays and reduce each one with `per_ray`, in chunks when memory requires.
+
+    Parameters
+    ----------
+    prism : Prism
+    wavelength, in_plane, out_of_plane : ndarray
+        Checked inputs that broadcast together (and with the prism's samples).
+    offset : ndarray, shape (..., 2)
+    per_ray : callable
+        ``per_ray(trace_result, traced_prism) -> dict`` of arrays whose leading axes are the
+        ray shape (without the incoherent-pair axis), plus any trailing axes of their own;
+        `traced_prism` is the prism (or the chunk's slice of its optic-axis samples) traced.
+    what : str
+        Name of the analysis, for the memory message.
+    polarisation : str or ndarray
+        As for :meth:`~prismdesign.prisms.Prism.trace` (an array broadcasts with the rays).
+    fill : callable, optional
+        ``fill(key) -> scalar``: value for rays of a chunk in which `per_ray` gave no entry for
+        `key` (a beam the trace dropped there). Default NaN.
+    **trace_options
+        Passed to :meth:`~prismdesign.prisms.Prism.trace`.
+
+    Returns
+    -------
+    dict
+        The keys of `per_ray`, arrays of the full ray shape plus their trailing axes. Unchunked,
+        exactly `per_ray` of one trace.
+    """
+    fill = fill or (lambda key: np.nan)
+    pair = isinstance(polarisation, str)
+    shapes = [np.shape(wavelength), np.shape(in_plane), np.shape(out_of_plane),
+              np.shape(offset)[:-1], prism_sample_shape(prism)]
+    if not pair:
+        shapes.append(np.shape(polarisation)[:-1])
+    shape = np.broadcast_shapes(*shapes)
+    count = math.prod(shape)
+    per = trace_bytes_per_ray(prism, keep_reflections=trace_options.get("keep_reflections",
+                                                                        False))
+    per *= 2 if pair else 1
+    budget = MEMORY_LIMIT_BYTES // 4
+    if count * per <= budget:
+        return per_ray(prism.trace(wavelength, in_plane, out_of_plane, offset_mm=offset,
+                                   polarisation=polarisation, **trace_options), prism)
+    size = max(1, budget // per)
+    flat = [np.broadcast_to(a, shape).reshape(-1) for a in (wavelength, in_plane, out_of_plane)]
+    flat_offset = np.broadcast_to(offset, shape + (2,)).reshape(-1, 2)
+    flat_pol = polarisation if pair else np.broadcast_to(polarisation, shape + (2,)).reshape(-1, 2)
+    out = {}
+    for start in range(0, count, size):
+        stop = min(start + size, count)
+        chunk = _flat_prism(prism, shape, start, stop)
+        result = per_ray(chunk.trace(*(a[start:stop] for a in flat),
+                                     offset_mm=flat_offset[start:stop],
+                                     polarisation=flat_pol if pair else flat_pol[start:stop],
+                                     **trace_options), chunk)
+        if start == 0:
+            # The first chunk shows how large the results are: refuse before allocating them.
+            per_result = sum(np.asarray(v).nbytes for v in result.values()) / (stop - start)
+            check_fits(what, per_result * count, f"{count} rays × {per_result:.0f} bytes of "
+                       f"results each", "ask for fewer points")
+        for key, value in result.items():
+            value = np.asarray(value)
+            if key not in out:
+                out[key] = np.empty((count,) + value.shape[1:], dtype=value.dtype)
+                # A beam first kept in a later chunk was dropped on the earlier rays.
+                out[key][:start] = fill(key)
+            out[key][start:stop] = value
+        for key in out.keys() - result.keys():
+            out[key][start:stop] = fill(key)
+    return {key: value.reshape(shape + value.shape[1:]) for key, value in out.items()}
