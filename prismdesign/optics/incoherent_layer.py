@@ -29,10 +29,10 @@ T₁T₂/(1 − R₁R₂) per s and p.
 
 Approximation in the fields: the tracer carries one pure field per beam. Each outgoing mode
 gets the incoherently summed power with the phase (and, once recombined in an isotropic medium,
-the s–p phase relation) of the single pass, i.e. of the first transmitted wave (t_B a) or of the
-direct reflection. The true output is partially polarised when the faces mix s and p; its
-powers per mode are exact, its phase is the single-pass phase. The layer's propagation phase
-is not added to the optical path (it is an average over bounces with no single value).
+the s–p phase relation) of the single pass: the first transmitted wave t_B a, including the
+layer's propagation phase k₀ q d, or the direct reflection. The true output is partially
+polarised when the faces mix s and p; its powers per mode are exact, its phase is that of the
+single pass, which is also the coherent film's phase to first order in the face reflectances.
 """
 import warnings
 
@@ -100,7 +100,7 @@ def _quadratic_power(t, j):
 
 
 def solve_incoherent_layer(wave_vector_in, field_in, normal, indices_1, axis_1, indices_2,
-                           axis_2, n_layer):
+                           axis_2, n_layer, wavelength_um, thickness_mm):
     """Reflect and refract a plane wave at an isotropic layer, adding its bounces in power.
 
     Parameters
@@ -117,6 +117,10 @@ def solve_incoherent_layer(wave_vector_in, field_in, normal, indices_1, axis_1, 
         Unit optic axes (ignored for isotropic media).
     n_layer : ndarray, shape (m,)
         Layer index; the layer wave must propagate on every ray (see :func:`incoherent_rays`).
+    wavelength_um : ndarray, shape (m,)
+        Vacuum wavelength (µm); with `thickness_mm` it sets the single-pass phase only.
+    thickness_mm : float or ndarray, shape (m,)
+        Layer thickness (mm).
 
     Returns
     -------
@@ -164,7 +168,11 @@ def solve_incoherent_layer(wave_vector_in, field_in, normal, indices_1, axis_1, 
     back = r_b @ coherency @ np.swapaxes(r_b.conj(), 1, 2)
     reflected = np.abs(amp_a[:, 2:]) ** 2 + _quadratic_power(t_c, back)
     power = np.concatenate([transmitted, reflected], axis=1)
-    single_pass = np.concatenate([np.einsum("moj,mj->mo", t_b, a), amp_a[:, 2:]], axis=1)
+    # The first transmitted wave crosses the layer once: propagation phase k0 q d.
+    crossing = np.exp(2j * np.pi * np.asarray(thickness_mm) * 1e3 / wavelength_um
+                      * face_a.normal_component[:, 0].real)
+    single_pass = np.concatenate([np.einsum("moj,mj->mo", t_b, a) * crossing[:, None],
+                                  amp_a[:, 2:]], axis=1)
     singular = (face_a.singular | face_b.singular.any(axis=1) | face_c.singular.any(axis=1)
                 | stuck)
     power = np.where(singular[:, None], 0.0, np.maximum(power, 0.0))
@@ -234,7 +242,8 @@ def solve_layered_interface(wave_vector_in, field_in, normal, indices_1, axis_1,
         ind1, ind2 = ([v[mask] for v in pair] for pair in (indices_1, indices_2))
         return (k[mask], args[1][mask], normal[mask], ind1, axis_1[mask], ind2, axis_2[mask])
 
-    incoherent_part = solve_incoherent_layer(*rows(incoherent), n_layer[incoherent])
+    incoherent_part = solve_incoherent_layer(*rows(incoherent), n_layer[incoherent],
+                                             wavelength_um[incoherent], layer.thickness_mm)
     if not coherent.any():
         return incoherent_part, incoherent
     coherent_part = solve_interface(*rows(coherent), layer=(n_layer[coherent],

@@ -44,6 +44,9 @@ class TraceFlag:
     #: in power, not amplitude (see :class:`~prismdesign.optics.ThinLayer`): its power is the
     #: incoherent sum, its phase that of the single pass.
     INCOHERENT_LAYER = 32
+    #: The bits above that say how a beam was computed, not that something went wrong: a beam
+    #: with ``flags & ~TraceFlag.INFORMATIONAL == 0`` met no fault.
+    INFORMATIONAL = FRUSTRATED_TOTAL_REFLECTION | INCOHERENT_LAYER
 
 
 class Beam:
