@@ -110,14 +110,16 @@ def test_e_beam_passes_with_fresnel_and_gap_transmission():
                     * _slab_transmittance(n_e, n_air, np.deg2rad(cut), 10.0, LAM, "s"))
         assert float(result.power("ee")) == pytest.approx(expected, rel=1e-9)
         assert not result["ee"].flags & TraceFlag.INCOHERENT_LAYER
-        assert prism.parameters["layer_treatment"].startswith("coherent")
+        assert prism.parameters["layer_treatment"] == "coherent"
+        assert prism.parameters["layer_model"].startswith("coherent film")
         prism = glan_air_spaced(cut_angle_deg=cut, axis="y")
         result = prism.trace(LAM, polarisation=(0.0, 1.0))
         expected = (_normal_fresnel_t(n_air, n_e) ** 2
                     * incoherent_slab_transmittance(n_e, n_air, n_e, np.deg2rad(cut), "s"))
         assert float(result.power("ee")) == pytest.approx(expected, rel=1e-12)
         assert result["ee"].flags == TraceFlag.INCOHERENT_LAYER
-        assert prism.parameters["layer_treatment"].startswith("auto")
+        assert prism.parameters["layer_treatment"] == "auto"
+        assert prism.parameters["layer_model"].startswith("auto")
 
 
 @pytest.mark.parametrize("axis, o_pol, o_jones", [("x", "s", (0.0, 1.0)), ("y", "p", (1.0, 0.0))])

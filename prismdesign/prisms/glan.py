@@ -106,7 +106,8 @@ def glan_air_spaced(material="calcite", cut_angle_deg=38.5, gap_mm=0.01, axis="x
     Prism
         ``kind = "glan air-spaced"``; ``parameters["transmitted_mode"]`` is "o" or "e" (or
         "both"/"none" with a warning when the cut does not polarise at the design wavelength);
-        ``parameters["layer_treatment"]`` says how the gap is modelled.
+        ``parameters["layer_treatment"]`` is the treatment asked for and
+        ``parameters["layer_model"]`` says in words how the gap is modelled.
     """
     layer = make_layer(gap_material, gap_mm, "gap_material", "gap_mm: layer thickness_mm",
                        layer_treatment, coherence_length_mm, "layer_treatment")
@@ -114,8 +115,8 @@ def glan_air_spaced(material="calcite", cut_angle_deg=38.5, gap_mm=0.01, axis="x
                   cut_angle_deg=cut_angle_deg, gap_mm=gap_mm, axis=axis,
                   gap_material=getattr(layer.material, "name", str(gap_material)),
                   width_mm=width_mm, height_mm=height_mm, edge_thickness_mm=edge_thickness_mm,
-                  layer_treatment=layer.description,
-                  coherence_length_mm=layer.coherence_length_mm)
+                  layer_treatment=layer.treatment,
+                  coherence_length_mm=layer.coherence_length_mm, layer_model=layer.description)
     return _glan("glan air-spaced", material, cut_angle_deg, layer, axis, width_mm, height_mm,
                  edge_thickness_mm, design_wavelength_um, coated, params)
 
@@ -149,8 +150,8 @@ def glan_cemented(material="calcite", cut_angle_deg=72.0, cement="optical_cement
     Returns
     -------
     Prism
-        ``kind = "glan cemented"``; ``parameters["layer_treatment"]`` says how the film is
-        modelled.
+        ``kind = "glan cemented"``; ``parameters["layer_treatment"]`` and
+        ``parameters["layer_model"]`` say how the film is modelled.
     """
     layer = make_layer(cement, cement_thickness_mm, "cement",
                        "cement_thickness_mm: layer thickness_mm", layer_treatment,
@@ -159,8 +160,8 @@ def glan_cemented(material="calcite", cut_angle_deg=72.0, cement="optical_cement
                   cut_angle_deg=cut_angle_deg, cement=getattr(layer.material, "name", str(cement)),
                   cement_thickness_mm=cement_thickness_mm, axis=axis, width_mm=width_mm,
                   height_mm=height_mm, edge_thickness_mm=edge_thickness_mm,
-                  layer_treatment=layer.description,
-                  coherence_length_mm=layer.coherence_length_mm)
+                  layer_treatment=layer.treatment,
+                  coherence_length_mm=layer.coherence_length_mm, layer_model=layer.description)
     return _glan("glan cemented", material, cut_angle_deg, layer, axis, width_mm, height_mm,
                  edge_thickness_mm, design_wavelength_um, coated, params)
 
