@@ -141,7 +141,14 @@ def test_incoherent_sum_is_the_thickness_averaged_coherent_film(data, kinds, n_l
                                  ax1[None], tuple(np.atleast_1d(v) for v in ind2), ax2[None],
                                  np.atleast_1d(n_layer), np.atleast_1d(lam), 0.01)
     assert not res.singular[0]
-    np.testing.assert_allclose(res.power_fraction[0], expected, atol=2e-9)
+    got, q = res.power_fraction[0], res.normal_component[0]
+    for pair in ((0, 1), (2, 3)):
+        # Degenerate modes (an isotropic side, or a wave along the optic axis) have no unique
+        # basis, and each face solve picks its own: compare their sum.
+        if abs(q[pair[0]] - q[pair[1]]) > 1e-6:
+            np.testing.assert_allclose(got[list(pair)], expected[list(pair)], atol=2e-9)
+        else:
+            assert got[list(pair)].sum() == pytest.approx(expected[list(pair)].sum(), abs=2e-9)
 
 
 @settings(max_examples=200, deadline=None)
