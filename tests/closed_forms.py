@@ -30,3 +30,15 @@ def wollaston_exit_angle_rad(n_first, n_second, wedge_rad, n_outside):
     parallel to the entrance: n₂ sin(θ' − θ) = n_outside sin α. Returns α (radians, signed)."""
     inside = np.arcsin(n_first * np.sin(wedge_rad) / n_second) - wedge_rad
     return np.arcsin(n_second * np.sin(inside) / n_outside)
+
+
+def incoherent_slab_transmittance(n1, n2, n3, incidence_rad, polarisation):
+    """Power transmittance of a slab n2 between half spaces n1 and n3 whose multiple reflections
+    add in power, not amplitude: T = T₁T₂ Σ (R₁R₂)^k = T₁T₂/(1 − R₁R₂), with the Fresnel
+    reflectances R₁ (n1 → n2) and R₂ (n2 → n3) of one polarisation (Born & Wolf §1.5.2 for
+    R₁, R₂; the incoherent sum as in B. Harbecke, Appl. Phys. B 39, 165 (1986), from memory).
+    `incidence_rad` is the angle in n1; the slab wave must propagate."""
+    inside = np.arcsin(n1 * np.sin(incidence_rad) / n2)
+    t1 = fresnel_transmittance(n1, n2, incidence_rad, polarisation)
+    t2 = fresnel_transmittance(n2, n3, inside, polarisation)
+    return t1 * t2 / (1.0 - (1.0 - t1) * (1.0 - t2))

@@ -3,7 +3,7 @@ import numpy as np
 import pytest
 
 from prismdesign import material
-from prismdesign.optics import ThinLayer
+from prismdesign.optics import ThinLayer, TraceFlag
 from prismdesign.prisms import (StackPiece, compound_prism, double_wollaston, free_stack,
                                 interface_layer, in_series, wollaston)
 
@@ -46,21 +46,33 @@ def test_zero_thickness_interface_layer_changes_nothing():
     _compare(bare.trace(LAM, 1.0), layered.trace(LAM, 1.0), 1e-12)
 
 
-def test_cement_layer_thin_film_transmission_at_normal_incidence():
-    # Two glass plates with a cement film between them at normal incidence: the film's power
-    # transmittance is the Airy formula for a single layer, T = 1/(1 + F sin²δ) with
-    # F = 4R/(1−R)², R = ((n₁−n₂)/(n₁+n₂))², δ = 2π n₂ d/λ (Born & Wolf §7.6.1).
+@pytest.mark.parametrize("treatment", ["coherent", "auto", "incoherent"])
+def test_cement_layer_film_transmission_at_normal_incidence(treatment):
+    # Two glass plates with a 3 µm cement film between them at normal incidence, R the
+    # film-glass reflectance ((n₁−n₂)/(n₁+n₂))² (Born & Wolf §1.5.3). Coherent: the Airy
+    # formula T = 1/(1 + F sin²δ), F = 4R/(1−R)², δ = 2π n₂ d/λ (Born & Wolf §7.6.1).
+    # Incoherent (the default "auto" for a film several wavelengths thick): powers add,
+    # T = (1−R)²/(1 − R²) = (1−R)/(1+R) (geometric series of the bounces; Harbecke, Appl.
+    # Phys. B 39, 165 (1986), from memory).
     lam, d_um = 0.6328, 3.0
     n1 = float(material("fused_silica").indices(lam)[0])
     n2 = 1.70
     n_air = float(material("air").indices(lam)[0])
     prism = free_stack([dict(material="fused_silica", thickness_mm=2.0)] * 2,
-                       interfaces=[interface_layer(n2, d_um * 1e-3)], design_wavelength_um=lam)
-    got = float(prism.trace(lam, polarisation=(1.0, 0.0)).power(next(iter(prism.trace(lam).beams))))
+                       interfaces=[interface_layer(n2, d_um * 1e-3, treatment)],
+                       design_wavelength_um=lam)
+    result = prism.trace(lam, polarisation=(1.0, 0.0))
+    (label,) = result.labels()
     r = ((n1 - n2) / (n1 + n2)) ** 2
-    film = 1.0 / (1.0 + 4 * r / (1 - r) ** 2 * np.sin(2 * np.pi * n2 * d_um / lam) ** 2)
+    if treatment == "coherent":
+        film = 1.0 / (1.0 + 4 * r / (1 - r) ** 2 * np.sin(2 * np.pi * n2 * d_um / lam) ** 2)
+    else:
+        film = (1 - r) / (1 + r)
     faces = (4 * n_air * n1 / (n_air + n1) ** 2) ** 2
-    assert got == pytest.approx(faces * film, rel=1e-10)
+    assert float(result.power(label)) == pytest.approx(faces * film, rel=1e-10)
+    incoherent = bool(result[label].flags & TraceFlag.INCOHERENT_LAYER)
+    assert incoherent == (treatment != "coherent")
+    assert treatment in result.layer_treatments["interface 1"]
 
 
 def test_double_wollaston_four_equal_beams():

@@ -6,6 +6,7 @@ from prismdesign import material
 from prismdesign.optics import TraceFlag
 from prismdesign.prisms import (glan_air_spaced, glan_cemented, glan_cut_angle_limits,
                                 glan_transmitted_mode, rejected_beam_system, trace_rejected)
+from closed_forms import incoherent_slab_transmittance
 
 LAM = 0.6328
 
@@ -81,27 +82,44 @@ def test_o_beam_rejected_just_above_and_passing_just_below_critical(axis, o_pol,
     assert leak < 1e-9
     # The exact solve resolves such tiny powers to ~1e-16 absolute (double precision).
     assert leak == pytest.approx(expected, rel=1e-9, abs=1e-15)
-    with pytest.warns(UserWarning, match="passes both beams"):
-        below = glan_air_spaced(cut_angle_deg=theta_c - 0.3, axis=axis)
-    assert below.parameters["transmitted_mode"] == "both"
-    result = below.trace(LAM, polarisation=o_jones)
-    got = float(result.power("oo"))
-    expected = (_normal_fresnel_t(n_air, n_o) ** 2
-                * _slab_transmittance(n_o, n_air, np.deg2rad(theta_c - 0.3), 10.0, LAM, o_pol))
-    assert got > 1e-3
-    assert got == pytest.approx(expected, rel=1e-9)
+    # Below θ_c the o-wave propagates in the gap. The default ("auto") adds the reflections
+    # in the 10 µm gap in power (T₁T₂/(1 − R₁R₂)); "coherent" is the etalon (Airy / Zhu et al.).
+    cut = theta_c - 0.3
+    for treatment, gap in (("auto", incoherent_slab_transmittance(n_o, n_air, n_o,
+                                                                  np.deg2rad(cut), o_pol)),
+                           ("coherent", _slab_transmittance(n_o, n_air, np.deg2rad(cut), 10.0,
+                                                            LAM, o_pol))):
+        with pytest.warns(UserWarning, match="passes both beams"):
+            below = glan_air_spaced(cut_angle_deg=cut, axis=axis, layer_treatment=treatment)
+        assert below.parameters["transmitted_mode"] == "both"
+        result = below.trace(LAM, polarisation=o_jones)
+        got = float(result.power("oo"))
+        assert got > 1e-3
+        assert got == pytest.approx(_normal_fresnel_t(n_air, n_o) ** 2 * gap, rel=1e-9)
 
 
 def test_e_beam_passes_with_fresnel_and_gap_transmission():
     # Axis y: the e-wave has E ∥ y ∥ axis, so it is an exact s-wave of index n_e; its power is
-    # entrance × gap (Airy, same slab formula) × exit transmittance.
+    # entrance × gap × exit transmittance, the gap as an etalon when asked for ("coherent":
+    # Airy, same slab formula) and by default as an incoherent sum T₁T₂/(1 − R₁R₂).
     n_o, n_e, n_air = _indices()
     for cut in (38.5, 40.0):
-        prism = glan_air_spaced(cut_angle_deg=cut, axis="y")
-        got = float(prism.trace(LAM, polarisation=(0.0, 1.0)).power("ee"))
+        prism = glan_air_spaced(cut_angle_deg=cut, axis="y", layer_treatment="coherent")
+        result = prism.trace(LAM, polarisation=(0.0, 1.0))
         expected = (_normal_fresnel_t(n_air, n_e) ** 2
                     * _slab_transmittance(n_e, n_air, np.deg2rad(cut), 10.0, LAM, "s"))
-        assert got == pytest.approx(expected, rel=1e-9)
+        assert float(result.power("ee")) == pytest.approx(expected, rel=1e-9)
+        assert not result["ee"].flags & TraceFlag.INCOHERENT_LAYER
+        assert prism.parameters["layer_treatment"] == "coherent"
+        assert prism.parameters["layer_model"].startswith("coherent film")
+        prism = glan_air_spaced(cut_angle_deg=cut, axis="y")
+        result = prism.trace(LAM, polarisation=(0.0, 1.0))
+        expected = (_normal_fresnel_t(n_air, n_e) ** 2
+                    * incoherent_slab_transmittance(n_e, n_air, n_e, np.deg2rad(cut), "s"))
+        assert float(result.power("ee")) == pytest.approx(expected, rel=1e-12)
+        assert result["ee"].flags == TraceFlag.INCOHERENT_LAYER
+        assert prism.parameters["layer_treatment"] == "auto"
+        assert prism.parameters["layer_model"].startswith("auto")
 
 
 @pytest.mark.parametrize("axis, o_pol, o_jones", [("x", "s", (0.0, 1.0)), ("y", "p", (1.0, 0.0))])

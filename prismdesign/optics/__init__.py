@@ -1,4 +1,5 @@
-"""Exact crystal optics: plane-wave eigenmodes, interface solver, thin layers, sequential tracer."""
+"""Exact crystal optics: plane-wave eigenmodes, interface solver, thin layers (coherent or
+incoherent), sequential tracer."""
 from .eigenmodes import extraordinary_index, plane_wave_modes
 from .interface import MODE_ORDER, InterfaceResult, solve_interface
 from .system import (CircularAperture, FixedIndices, Medium, RectangularAperture,

@@ -159,7 +159,8 @@ class Surface:
     aperture : CircularAperture or RectangularAperture, optional
         Rays meeting the plane outside it are flagged, not dropped.
     layer : ThinLayer, optional
-        Coherent thin isotropic layer at this surface (cement film, narrow air gap).
+        Thin isotropic layer at this surface (cement film, air gap, coating), coherent or
+        incoherent as its `treatment` says.
     label : str
     reflect_from : Medium, optional
         Makes this a reflecting surface: the tracer follows the reflected waves (back into the

@@ -1,8 +1,11 @@
-"""Coherent treatment of a thin isotropic layer (cement film, air gap) between two media.
+"""A thin isotropic layer (cement film, air gap, coating) between two media, and its coherent
+transfer matrix.
 
-The layer is thin compared with the beam, so ray positions ignore its thickness, while its
-amplitude and phase effect are exact: multiple reflections inside the layer, thin-film
-interference of a cement film, and frustrated total internal reflection through an air gap.
+The layer is thin compared with the beam, so ray positions ignore its thickness. How its
+multiple reflections add is the layer's `treatment`: "coherent" sums them in amplitude (thin-film
+interference, frustrated total internal reflection through an air gap; this module), "incoherent"
+sums them in power (:mod:`.incoherent_layer`), and "auto" (the default) chooses per ray and
+wavelength, see :class:`ThinLayer`.
 
 For tangential fields F = (E·û₁, E·û₂, H·û₁, H·û₂) in a local frame (û₁ along the tangential
 wave vector, û₂ = N̂ × û₁), Maxwell's equations in an isotropic layer of index n read
@@ -15,7 +18,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
-__all__ = ["ThinLayer", "layer_transfer_matrix"]
+__all__ = ["ThinLayer", "LAYER_TREATMENTS", "layer_transfer_matrix"]
+
+#: How the multiple reflections inside a layer add: see :class:`ThinLayer`.
+LAYER_TREATMENTS = ("auto", "coherent", "incoherent")
 
 
 @dataclass(frozen=True)
@@ -29,15 +35,65 @@ class ThinLayer:
         isotropic materials (n_o = n_e) are accepted at trace time.
     thickness_mm : float
         Layer thickness in millimetres (e.g. 0.01 for a 10 µm cement film); zero is allowed.
+    treatment : {"auto", "coherent", "incoherent"}
+        How the multiple reflections inside the layer add up.
+
+        - "coherent": in amplitude (Airy; Born & Wolf, *Principles of Optics*, §1.6.4 and
+          §7.6.1): an ideal plane-parallel film lit by perfectly coherent, collimated light.
+          Transmission then oscillates with thickness, angle and wavelength (fringe period
+          λ/(2n cos θ) in thickness).
+        - "incoherent": in power, T₁T₂/(1 − R₁R₂) for isotropic media (see
+          :mod:`~prismdesign.optics.incoherent_layer`): real gaps are wedged and not flat to a
+          fraction of a wavelength, and real sources have bandwidth and divergence, so the
+          fringes of a layer many wavelengths thick average out. Rays whose wave is evanescent
+          in the layer (frustrated total internal reflection) are always treated coherently:
+          tunnelling exists only in amplitude. A forced "incoherent" layer thinner than a
+          wavelength warns at trace time (such films keep their fringes in practice).
+        - "auto" (default): incoherent where the wave propagates in the layer and the layer's
+          optical thickness n·d is at least max(λ, L_c/2), L_c the coherence length below;
+          coherent otherwise, i.e. for sub-wavelength films (antireflection coatings,
+          tunnelling gaps), evanescent waves, and layers whose round trip 2·n·d is shorter
+          than the coherence length. The choice uses n·d, not the angle-dependent path
+          2·n·d·cos θ, so a scan over angle never switches treatment except where the wave
+          turns evanescent (where a thick layer passes nothing either way).
+    coherence_length_mm : float, optional
+        Coherence length of the light, L_c ≈ λ²/Δλ for a source of bandwidth Δλ (mm); only
+        used by "auto". None (default) means short or unknown: every propagating layer at
+        least a wavelength thick is incoherent.
     """
 
     material: object
     thickness_mm: float
+    treatment: str = "auto"
+    coherence_length_mm: float | None = None
 
     def __post_init__(self):
         t = float(self.thickness_mm)
         if not np.isfinite(t) or t < 0:
             raise ValueError(f"thin layer thickness_mm must be finite and >= 0, got {self.thickness_mm!r}")
+        if not isinstance(self.treatment, str) or self.treatment not in LAYER_TREATMENTS:
+            raise ValueError(f"thin layer treatment must be one of {', '.join(LAYER_TREATMENTS)}, "
+                             f"got {self.treatment!r}")
+        length = self.coherence_length_mm
+        if length is not None:
+            ok = isinstance(length, (int, float, np.integer, np.floating)) and not isinstance(
+                length, (bool, np.bool_))
+            if not ok or not (np.isfinite(length) and length > 0):
+                raise ValueError(f"thin layer coherence_length_mm must be None or a positive "
+                                 f"length in mm, got {length!r}")
+
+    @property
+    def description(self):
+        """One line saying how the layer's multiple reflections are added (for reports)."""
+        if self.treatment == "coherent":
+            return "coherent film (amplitudes add: Airy)"
+        if self.treatment == "incoherent":
+            return ("incoherent (powers add: T1 T2 / (1 - R1 R2)); coherent where the wave is "
+                    "evanescent")
+        length = ("unknown coherence length" if self.coherence_length_mm is None
+                  else f"coherence length {self.coherence_length_mm:g} mm")
+        return (f"auto ({length}): incoherent where n*d >= max(wavelength, L_c/2) and the wave "
+                f"propagates, else coherent")
 
 
 def layer_transfer_matrix(n_layer, kappa, wavelength_um, thickness_mm):

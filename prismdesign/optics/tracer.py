@@ -10,9 +10,16 @@ ray (Poynting) direction; refraction uses the wave vector; the optical path accu
 Fields are carried "power normalised": |field|² is the beam power relative to the input (power
 fraction products, so beam-area changes at each refraction are included) and the phase is that
 of the interface coefficients. The propagation phase is kept separately as the optical path.
+
+A surface carrying a :class:`~prismdesign.optics.ThinLayer` is solved with the layer's
+treatment (:func:`~prismdesign.optics.incoherent_layer.solve_layered_interface`): coherent film
+or incoherent sum of the reflections inside the layer; beams that crossed a layer incoherently
+carry the INCOHERENT_LAYER flag, and :attr:`TraceResult.layer_treatments` names each layer's
+setting.
 """
 import numpy as np
 
+from .incoherent_layer import solve_layered_interface
 from .interface import solve_interface
 from .vectors import as_unit_vectors, dot, transverse_basis
 
@@ -33,6 +40,13 @@ class TraceFlag:
     #: The beam crossed a thin layer in which its wave was evanescent: it tunnelled through
     #: (frustrated total internal reflection); its power is the tunnelled fraction.
     FRUSTRATED_TOTAL_REFLECTION = 16
+    #: The beam crossed (or was reflected by) a thin layer whose multiple reflections were added
+    #: in power, not amplitude (see :class:`~prismdesign.optics.ThinLayer`): its power is the
+    #: incoherent sum, its phase that of the single pass.
+    INCOHERENT_LAYER = 32
+    #: The bits above that say how a beam was computed, not that something went wrong: a beam
+    #: with ``flags & ~TraceFlag.INFORMATIONAL == 0`` met no fault.
+    INFORMATIONAL = FRUSTRATED_TOTAL_REFLECTION | INCOHERENT_LAYER
 
 
 class Beam:
@@ -147,14 +161,19 @@ class TraceResult:
     incoherent_pair : bool
         True for unpolarised input: every array has a leading axis of length 2 (x and y input
         polarisation, half the power each) over which powers add incoherently.
+    layer_treatments : dict[str, str]
+        For each surface carrying a thin layer (by surface label, or "surface <i>"), how its
+        multiple reflections were added (:attr:`ThinLayer.description`); per ray, the
+        INCOHERENT_LAYER flag of a beam says where the incoherent sum was actually used.
     """
 
-    __slots__ = ("beams", "reflected", "incoherent_pair")
+    __slots__ = ("beams", "reflected", "incoherent_pair", "layer_treatments")
 
-    def __init__(self, beams, reflected, incoherent_pair):
+    def __init__(self, beams, reflected, incoherent_pair, layer_treatments=None):
         self.beams = beams
         self.reflected = reflected
         self.incoherent_pair = incoherent_pair
+        self.layer_treatments = dict(layer_treatments or {})
 
     def __getitem__(self, label):
         return self.beams[label]
@@ -307,6 +326,7 @@ def trace(system, position_mm, direction, wavelength_um, polarisation=(1.0, 0.0)
                     flags=np.zeros(wavelength.size, dtype=np.int64))
     branches = [start]
     reflected = {}
+    layer_treatments = {}
     for i, surface in enumerate(system.surfaces):
         before, after = system.media[i], system.media[i + 1]
         layer = None
@@ -315,6 +335,7 @@ def trace(system, position_mm, direction, wavelength_um, polarisation=(1.0, 0.0)
             if np.any(n_layer != n_layer_e):
                 raise ValueError(f"thin layer at surface {i} must be isotropic")
             layer = (n_layer, wavelength, surface.layer.thickness_mm)
+            layer_treatments[surface.label or f"surface {i}"] = surface.layer.description
         mirror = surface.reflect_from is not None
         if mirror:
             far_indices = surface.reflect_from.indices(wavelength)
@@ -324,8 +345,14 @@ def trace(system, position_mm, direction, wavelength_um, polarisation=(1.0, 0.0)
         new_branches = []
         for branch in branches:
             point, path, flags = _intersect(branch, surface)
-            res = solve_interface(branch.k, branch.field, surface.normal, media_indices[i], axes[i],
-                                  far_indices, far_axis, layer=layer)
+            if layer is None:
+                res = solve_interface(branch.k, branch.field, surface.normal, media_indices[i],
+                                      axes[i], far_indices, far_axis)
+            else:
+                res, incoherent = solve_layered_interface(
+                    branch.k, branch.field, surface.normal, media_indices[i], axes[i],
+                    far_indices, far_axis, surface.layer, layer[0], wavelength)
+                flags = flags | np.where(incoherent, TraceFlag.INCOHERENT_LAYER, 0)
             flags = flags | np.where(res.singular, TraceFlag.SINGULAR, 0)
             tunnelled = 0
             if layer is not None and not mirror:
@@ -368,4 +395,4 @@ def trace(system, position_mm, direction, wavelength_um, polarisation=(1.0, 0.0)
                         reflected[child.label] = _finish(child, shape, wavelength)
         branches = new_branches
     beams = {b.label or "-": _finish(b, shape, wavelength) for b in branches}
-    return TraceResult(beams, reflected, pair)
+    return TraceResult(beams, reflected, pair, layer_treatments)

@@ -117,7 +117,8 @@ class Boundary:
     normal : array_like, shape (3,)
         Unit normal, oriented toward +z.
     layer : ThinLayer, optional
-        Coherent thin film at the boundary (cement, narrow air gap).
+        Thin film at the boundary (cement, air gap), coherent or incoherent as its
+        `treatment` says.
     coated : bool
         Outer faces only: an ideal single-layer antireflection coating for the design wavelength.
     label : str
@@ -148,14 +149,16 @@ def ideal_antireflection_layer(n_outside, n_inside, wavelength_um):
     Returns
     -------
     ThinLayer
-        Index √(n₁n₂), thickness λ/(4n) (Born & Wolf, *Principles of Optics*, §1.6.4).
+        Index √(n₁n₂), thickness λ/(4n) (Born & Wolf, *Principles of Optics*, §1.6.4); a
+        coherent film.
     """
     n_outside = check_positive("n_outside", n_outside)
     n_inside = check_positive("n_inside", n_inside)
     wavelength_um = check_positive("wavelength_um", wavelength_um)
     n_c = float(np.sqrt(n_outside * n_inside))
+    # A coating works by interference: always a coherent film.
     return ThinLayer(FixedIndices(n_c, name="ideal antireflection layer"),
-                     thickness_mm=wavelength_um / (4.0 * n_c) * 1e-3)
+                     thickness_mm=wavelength_um / (4.0 * n_c) * 1e-3, treatment="coherent")
 
 
 def _clip(polygon, point, normal, keep_positive):

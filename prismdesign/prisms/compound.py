@@ -70,14 +70,16 @@ def _as_spec(item, index, cls_keys, kind):
 
 
 def _layer(value, index):
-    """Interface layer from None, a ThinLayer or a dict(material=..., thickness_mm=...)."""
+    """Interface layer from None, a ThinLayer or a dict(material=..., thickness_mm=...,
+    treatment=..., coherence_length_mm=...)."""
     if value is None or isinstance(value, ThinLayer):
         return value
     if isinstance(value, dict):
-        unknown = sorted(set(value) - {"material", "thickness_mm"})
+        unknown = sorted(set(value) - {"material", "thickness_mm", "treatment",
+                                       "coherence_length_mm"})
         if unknown:
             raise ValueError(f"interface {index}: unknown key {unknown[0]!r}; allowed: material, "
-                             f"thickness_mm")
+                             f"thickness_mm, treatment, coherence_length_mm")
         return interface_layer(**value)
     raise ValueError(f"interface {index} must be None, a ThinLayer or a dict(material=..., "
                      f"thickness_mm=...), got {value!r}")
@@ -111,7 +113,8 @@ def free_stack(pieces, *, interfaces=None, width_mm=10.0, height_mm=10.0,
     interfaces : sequence, optional
         One entry per internal interface: None (optically contacted), a
         :class:`~prismdesign.optics.ThinLayer`, or ``dict(material=..., thickness_mm=...)``
-        (e.g. ``dict(material="air", thickness_mm=0.005)``).
+        (e.g. ``dict(material="air", thickness_mm=0.005)``; optional keys ``treatment`` and
+        ``coherence_length_mm`` as for :func:`~prismdesign.prisms.interface_layer`).
     width_mm, height_mm : float
         Clear aperture along x and y (mm).
     design_wavelength_um : float

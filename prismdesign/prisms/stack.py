@@ -14,7 +14,9 @@ import numpy as np
 
 from ..materials import material as library_material
 from ..materials import materials as library_names
+from .._display import shown
 from ..optics import FixedIndices, ThinLayer, optic_axis_from_angles
+from ..optics.thin_layer import LAYER_TREATMENTS
 from ..optics.vectors import as_unit_vectors
 from .base import Boundary, Prism, check_angle, check_flag, check_positive
 
@@ -84,8 +86,9 @@ def resolve_axis(axis, name="optic_axis"):
                      f"got {axis!r}")
 
 
-def interface_layer(material="optical_cement", thickness_mm=0.01):
-    """A coherent thin layer for an internal interface: cement film or narrow air gap.
+def interface_layer(material="optical_cement", thickness_mm=0.01, treatment="auto",
+                    coherence_length_mm=None):
+    """A thin layer for an internal interface: cement film or air gap.
 
     Parameters
     ----------
@@ -94,16 +97,25 @@ def interface_layer(material="optical_cement", thickness_mm=0.01):
         index, or a material object. Must be isotropic.
     thickness_mm : float
         Layer thickness in mm (0.01 = 10 µm); zero is allowed (no effect).
+    treatment : {"auto", "coherent", "incoherent"}
+        How the reflections inside the layer add (see :class:`~prismdesign.optics.ThinLayer`):
+        "auto" (default) sums them in power once the layer is a wavelength or more thick and
+        the wave propagates in it, in amplitude otherwise (sub-wavelength films, tunnelling).
+    coherence_length_mm : float, optional
+        Coherence length of the light (mm) for "auto": layers whose round trip 2·n·d is
+        shorter stay coherent. None: short or unknown.
 
     Returns
     -------
     ThinLayer
     """
-    return make_layer(material, thickness_mm)
+    return make_layer(material, thickness_mm, treatment=treatment,
+                      coherence_length_mm=coherence_length_mm)
 
 
 def make_layer(material, thickness_mm, material_name="layer material",
-               thickness_name="layer thickness_mm"):
+               thickness_name="layer thickness_mm", treatment="auto", coherence_length_mm=None,
+               treatment_name="treatment"):
     """:func:`interface_layer`, with the caller's own parameter names in its error messages."""
     if isinstance(material, (int, float, np.floating, np.integer)) and not isinstance(material,
                                                                                      bool):
@@ -122,7 +134,12 @@ def make_layer(material, thickness_mm, material_name="layer material",
         raise ValueError(f"{thickness_name} must be a number >= 0, got {thickness_mm!r}") from None
     if not (np.isfinite(t) and t >= 0):
         raise ValueError(f"{thickness_name} must be a number >= 0, got {thickness_mm!r}")
-    return ThinLayer(medium, t)
+    if not isinstance(treatment, str) or treatment not in LAYER_TREATMENTS:
+        raise ValueError(f"{treatment_name} must be one of {', '.join(LAYER_TREATMENTS)}, got "
+                         f"{shown(treatment)}")
+    if coherence_length_mm is not None:
+        coherence_length_mm = check_positive("coherence_length_mm", coherence_length_mm)
+    return ThinLayer(medium, t, treatment, coherence_length_mm)
 
 
 def stacked_prism(kind, pieces, exit_face_deg, thickness_mm, *, width_mm, height_mm,
