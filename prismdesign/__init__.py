@@ -9,8 +9,8 @@ ranked search).
 __version__ = "0.1.0"
 
 from .materials import (DispersionRangeWarning, IsotropicMaterial, UniaxialMaterial,
-                        UnknownMaterialError, fit_dispersion, load_material, material, materials,
-                        save_material)
+                        UnknownMaterialError, fit_dispersion, load_material, material,
+                        material_datasets, materials, save_material)
 from .optics import (Beam, CircularAperture, FixedIndices, Medium, RectangularAperture,
                      SequentialSystem, Surface, ThinLayer, TraceFlag, TraceResult,
                      direction_from_angles, extraordinary_index, optic_axis_from_angles,
@@ -19,7 +19,8 @@ from . import analysis, design, prisms
 
 __all__ = [
     "DispersionRangeWarning", "IsotropicMaterial", "UniaxialMaterial", "UnknownMaterialError",
-    "fit_dispersion", "load_material", "material", "materials", "save_material",
+    "fit_dispersion", "load_material", "material", "material_datasets", "materials",
+    "save_material",
     "Beam", "CircularAperture", "FixedIndices", "Medium", "RectangularAperture",
     "SequentialSystem", "Surface", "ThinLayer", "TraceFlag", "TraceResult",
     "direction_from_angles", "extraordinary_index", "optic_axis_from_angles", "plane_wave_modes",

@@ -7,7 +7,7 @@ import re
 import numpy as np
 import pytest
 
-from prismdesign import material, materials
+from prismdesign import material, material_datasets, materials, save_material
 from prismdesign.cli import main
 from closed_forms import wollaston_exit_angle_rad
 
@@ -18,19 +18,24 @@ def run(capsys, *argv):
     return code, out, err
 
 
-def test_materials_lists_every_entry(capsys):
+def test_materials_lists_every_dataset(capsys):
     code, out, err = run(capsys, "materials")
     assert code == 0 and err == ""
     lines = out.splitlines()
-    assert lines[0].split()[:4] == ["name", "kind", "sign", "band"]
-    body = {line.split()[0]: line.split() for line in lines[2:]}
-    assert set(body) == set(materials())
+    assert lines[0].split()[:5] == ["name", "dataset", "kind", "sign", "band"]
+    table = [line.split() for line in lines[2:] if line.strip() and not line.startswith("*")]
+    body = {(row[0], row[1].rstrip("*")): row for row in table}
+    assert set(body) == {(name, d) for name in materials() for d in material_datasets(name)}
     calcite = material("calcite")
-    row = body["calcite"]
-    assert row[1:3] == ["uniaxial", "negative"]
-    assert float(row[4]) == pytest.approx(calcite.birefringence(0.6328), abs=1e-5)
-    assert " ".join(row[5:]) == calcite.reference.short
-    assert body["vacuum"][2] == "-" and body["vacuum"][4] == "-"
+    row = body["calcite", "ghosh-1999"]
+    assert row[2:4] == ["uniaxial", "negative"]
+    assert float(row[5]) == pytest.approx(calcite.birefringence(0.6328), abs=1e-5)
+    assert " ".join(row[6:]) == calcite.reference.short
+    assert body["vacuum", "bipm-2019"][3] == "-" and body["vacuum", "bipm-2019"][5] == "-"
+    # the default of a material with a choice is starred, and the star is explained
+    assert body["yvo4", "lomheim-1978"][1] == "lomheim-1978*"
+    assert body["yvo4", "shi-2001"][1] == "shi-2001"
+    assert lines[-1].startswith("* default dataset (widest band)")
 
 
 def test_index_table(capsys):
@@ -59,10 +64,68 @@ def test_index_isotropic_prints_n_only(capsys):
 
 
 def test_index_out_of_band_warns_on_stderr(capsys):
-    code, out, err = run(capsys, "index", "calcite", "--band", "1.0", "3.0", "--points", "3")
+    # Inside calcite's transparency window (to 2.3 um), beyond its data (to 2.172 um).
+    code, out, err = run(capsys, "index", "calcite", "--band", "1.0", "2.25", "--points", "3")
     assert code == 0
-    assert err.startswith("warning: calcite: wavelength_um up to 3 µm lies outside")
+    assert err.startswith("warning: calcite: wavelength_um up to 2.25 µm lies outside")
     assert len(err.strip().splitlines()) == 1
+
+
+def test_index_where_opaque_is_one_line_exit_2(capsys):
+    code, out, err = run(capsys, "index", "calcite", "--band", "1.0", "3.0", "--points", "3")
+    assert code == 2 and out == ""
+    assert err.startswith("prismdesign index: error: calcite (ghosh-1999): wavelength_um = 3 "
+                          "lies outside its transparency window 0.2-2.3 µm")
+    assert len(err.strip().splitlines()) == 1
+
+
+def test_index_header_names_dataset_and_temperature(capsys):
+    code, out, err = run(capsys, "index", "yvo4", "--band", "1.5", "1.6", "--points", "2")
+    assert code == 0 and err == ""                  # 1.55 um is inside Lomheim & DeShazer's data
+    lines = out.splitlines()
+    assert lines[0] == "yvo4 (uniaxial), dataset lomheim-1978 (default, widest band; " \
+                       "others: shi-2001)"
+    assert lines[1].startswith("values at 20 C, the temperature of the data")
+    code, out, err = run(capsys, "index", "yvo4", "--dataset", "shi-2001", "--temperature", "35",
+                         "--band", "0.6", "1.0", "--points", "2")
+    assert code == 0 and err == ""
+    assert "dataset shi-2001 (chosen; others: lomheim-1978)" in out
+    assert "values at 35 C: the 20 C data shifted by a linear thermo-optic model (dn/dT from " \
+           "H. S. Shi" in out
+    rows = [line.split() for line in out.splitlines() if line[:1].isdigit()]
+    shi = material("yvo4", dataset="shi-2001")
+    assert float(rows[0][1]) == pytest.approx(shi.n_o(0.6, 35.0), abs=1e-6)
+
+
+@pytest.mark.parametrize("argv, pattern", [
+    # Before: a table headed "at 500 C" holding 20 °C values.
+    (["index", "calcite", "--temperature", "500"],
+     "--temperature 500: calcite (ghosh-1999) has no thermo-optic data, its indices hold at "
+     "20 C only; leave out --temperature"),
+    (["index", "yvo4", "--temperature", "50"],
+     "yvo4 (lomheim-1978) has no thermo-optic data, its indices hold at 20 C only; dataset "
+     "shi-2001 has a linear dn/dT (--dataset)"),
+    (["index", "yvo4", "--dataset", "shi"],
+     "dataset = 'shi' is not a dataset of yvo4; allowed: lomheim-1978, shi-2001"),
+])
+def test_index_refusals(capsys, argv, pattern):
+    code, out, err = run(capsys, *argv)
+    assert code == 2 and out == "" and pattern in err
+    assert len(err.strip().splitlines()) == 1
+
+
+def test_index_reads_a_users_file(capsys, tmp_path):
+    path = save_material(material("yvo4", dataset="shi-2001"), tmp_path / "our_yvo4.toml")
+    code, out, err = run(capsys, "index", str(path), "--band", "0.6", "1.0", "--points", "3")
+    assert code == 0 and err == ""
+    assert out.splitlines()[0] == f"yvo4 (uniaxial), dataset shi-2001 (from {path})"
+    rows = [line.split() for line in out.splitlines() if line[:1].isdigit()]
+    assert float(rows[1][2]) == pytest.approx(material("yvo4", dataset="shi-2001").n_e(0.8),
+                                              abs=1e-6)
+    code, _, err = run(capsys, "index", str(tmp_path / "missing.toml"))
+    assert code == 2 and "missing.toml: no such dispersion-data file" in err
+    code, _, err = run(capsys, "index", str(path), "--dataset", "lomheim-1978")
+    assert code == 2 and "holds dataset 'shi-2001' only" in err
 
 
 def test_index_plot_writes_png(capsys, tmp_path):

@@ -19,7 +19,7 @@ from prismdesign.materials import MaterialLibrary, library
 CALCITE = {
     "schema": 1, "name": "calcite_test", "aliases": ["test spar"], "kind": "uniaxial",
     "optical_sign": "negative", "temperature_c": 20.0, "validity_um": [0.204, 2.172],
-    "transparency_um": [0.21, 2.3], "notes": "fixture",
+    "transparency_um": [0.2, 2.3], "notes": "fixture",
     "reference": {"authors": "G. Ghosh", "title": "Dispersion-equation coefficients for the "
                   "refractive index and birefringence of calcite and quartz crystals",
                   "journal": "Optics Communications", "volume": "163", "pages": "95-102",
@@ -104,7 +104,7 @@ def test_indices_is_uniform_for_both_kinds(calcite, tmp_path):
 
 def test_provenance_travels_with_the_object(calcite):
     assert calcite.validity_um == (0.204, 2.172)
-    assert calcite.transparency_um == (0.21, 2.3)
+    assert calcite.transparency_um == (0.2, 2.3)
     assert calcite.temperature_c == 20.0
     assert calcite.reference.short == "Ghosh 1999"
     text = str(calcite.reference)
@@ -116,9 +116,9 @@ def test_provenance_travels_with_the_object(calcite):
 
 def test_out_of_range_warns_naming_material_and_range(calcite):
     with pytest.warns(DispersionRangeWarning, match=r"calcite_test: .*0\.204-2\.172 µm"):
-        calcite.n_o(2.5)
-    with pytest.warns(DispersionRangeWarning, match=r"down to 0\.2 and up to 3"):
-        calcite.indices(np.array([0.2, 1.0, 3.0]))
+        calcite.n_o(2.25)
+    with pytest.warns(DispersionRangeWarning, match=r"down to 0\.2 and up to 2\.25"):
+        calcite.indices(np.array([0.2, 1.0, 2.25]))
     with warnings.catch_warnings():
         warnings.simplefilter("error")
         calcite.n_o(np.array([0.204, 2.172]))   # the ends of the range are inside
@@ -126,12 +126,12 @@ def test_out_of_range_warns_naming_material_and_range(calcite):
 
 def test_strict_mode_raises(calcite, tmp_path):
     with pytest.raises(ValueError, match="outside the validity range 0.204-2.172"):
-        calcite.n_e(2.5, strict=True)
+        calcite.n_e(2.25, strict=True)
     strict = load_material(write(tmp_path, CALCITE), strict=True)
     with pytest.raises(ValueError, match="calcite_test"):
-        strict.birefringence([0.5, 2.5])
+        strict.birefringence([0.5, 2.25])
     with pytest.warns(DispersionRangeWarning):
-        strict.n_o(2.5, strict=False)
+        strict.n_o(2.25, strict=False)
     assert strict.n_o(0.5) == calcite.n_o(0.5)
 
 
@@ -207,7 +207,7 @@ def test_unknown_material_lists_closest_matches():
 
 def test_strict_lookup():
     with pytest.raises(ValueError, match="outside the validity range"):
-        material("calcite", strict=True).n_o(5.0)
+        material("calcite", strict=True).n_o(2.25)
 
 
 def test_every_bundled_file_round_trips_through_save(tmp_path):
@@ -227,9 +227,15 @@ def test_library_on_a_folder(tmp_path):
 
 def test_library_rejects_name_file_mismatch_and_duplicates(tmp_path):
     write(tmp_path, CALCITE, name="calcite_other")
-    with pytest.raises(ValueError, match="must equal the file name 'calcite_other'"):
+    with pytest.raises(ValueError, match=r"needs the file name calcite_test.toml or "
+                                         r"calcite_test.ghosh-1999.toml, not calcite_other.toml"):
         MaterialLibrary(tmp_path).names()
     (tmp_path / "calcite_other.toml").unlink()
+    write(tmp_path, CALCITE)
+    write(tmp_path, CALCITE, name="calcite_test.ghosh-1999")
+    with pytest.raises(ValueError, match="dataset 'ghosh-1999' of 'calcite_test' is given twice"):
+        MaterialLibrary(tmp_path).names()
+    (tmp_path / "calcite_test.ghosh-1999.toml").unlink()
     write(tmp_path, CALCITE)
     write(tmp_path, dict(SILICA, aliases=["Calcite-Test"]))
     with pytest.raises(ValueError, match="'Calcite-Test' is already used by 'calcite_test'"):
@@ -300,10 +306,15 @@ BAD = [
      r"\[thermo_optic\]: key 'model' = 'table' is not allowed; allowed: 'linear'"),
     (_set(CALCITE, ["thermo_optic"], {"model": "linear", "dn_dt_per_c": 1e-6}),
      r"\[thermo_optic\]: unknown key 'dn_dt_per_c'"),
-    # n² < 0 inside the stated range: the UV pole moved to 0.3 µm² (λ ≈ 0.55 µm)
+    # The UV pole moved to 0.3 µm² (λ ≈ 0.548 µm), inside the stated range.
     (_set(CALCITE, ["ordinary", "C"], [0.3, 120.0]),
+     r"bad.toml: calcite_test: its dispersion formula has a resonance at 0.5477.* µm, inside "
+     r"validity_um = \[0.204, 2.172\]"),
+    # n² < 0 inside the stated range with no pole there: a large negative infrared term.
+    (_set(CALCITE, ["ordinary", "D"], 2.0),
      r"bad.toml: calcite_test \[ordinary\]: sellmeier: n² = .* at wavelength_um = "
      r".* inside validity_um = \[0.204, 2.172\]"),
+    (_set(CALCITE, ["dataset"], "Ghosh 1999"), r"dataset = 'Ghosh 1999' must be a plain name"),
     (_set(SILICA, ["optical_sign"], "positive"), r"unknown key 'optical_sign'"),
 ]
 
@@ -374,7 +385,7 @@ def test_thermo_optic_range_is_enforced_and_round_trips(tmp_path):
     import warnings as _warnings
     from prismdesign import DispersionRangeWarning, load_material, material, save_material
 
-    yvo4 = material("yvo4")
+    yvo4 = material("yvo4", dataset="shi-2001")
     assert yvo4.thermo_range_c == (20.0, 50.0)
     with _warnings.catch_warnings():
         _warnings.simplefilter("error")
@@ -383,7 +394,7 @@ def test_thermo_optic_range_is_enforced_and_round_trips(tmp_path):
     with pytest.warns(DispersionRangeWarning, match=r"20-50 °C"):
         yvo4.n_e(0.6, 100.0)
     with pytest.raises(ValueError, match=r"temperature_c = 100(\.0)? lies outside 20-50 °C"):
-        material("yvo4", strict=True).n_o(0.6, 100.0)
+        material("yvo4", strict=True, dataset="shi-2001").n_o(0.6, 100.0)
     copy = load_material(save_material(yvo4, tmp_path / "yvo4_copy.toml"))
     assert copy.thermo_range_c == (20.0, 50.0)
 

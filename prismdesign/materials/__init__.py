@@ -1,8 +1,8 @@
 """Materials: published dispersion formulas, isotropic and uniaxial media, the bundled library,
 reading and writing dispersion-data files, and fitting a formula to measured indices."""
 from .fitting import FitResult, fit_dispersion
-from .library import (MaterialLibrary, UnknownMaterialError, load_material, material, materials,
-                      save_material)
+from .library import (MaterialLibrary, UnknownMaterialError, load_material, material,
+                      material_datasets, materials, save_material)
 from .material import (DispersionModel, DispersionRangeWarning, IsotropicMaterial, Reference,
                        UniaxialMaterial)
 
@@ -18,6 +18,7 @@ __all__ = [
     "fit_dispersion",
     "load_material",
     "material",
+    "material_datasets",
     "materials",
     "save_material",
 ]

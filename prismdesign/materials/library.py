@@ -4,6 +4,9 @@ Bundled files live in the package ``prismdesign.dispersion_data`` (the top-level
 ``dispersion_data/`` folder of the repository, shipped inside the wheel).  Look-up is
 case-insensitive and ignores spaces, hyphens and underscores, so ``"alpha-BBO"``,
 ``"Alpha BBO"`` and ``"alpha_bbo"`` name the same entry; aliases in each file add more names.
+
+A material may carry several published datasets, one file each (``<name>.<dataset>.toml``); the
+default is the one whose data cover the widest wavelength band, and ``dataset=`` picks another.
 """
 from __future__ import annotations
 
@@ -20,8 +23,8 @@ import tomli_w
 
 from .schema import material_from_dict, material_to_dict
 
-__all__ = ["MaterialLibrary", "UnknownMaterialError", "load_material", "material", "materials",
-           "save_material"]
+__all__ = ["MaterialLibrary", "UnknownMaterialError", "load_material", "material", "material_datasets",
+           "materials", "save_material"]
 
 
 class UnknownMaterialError(LookupError):
@@ -113,19 +116,29 @@ def _key(name: str) -> str:
     return re.sub(r"[\s\-_]+", "", text)
 
 
+def _band_width(item) -> tuple:
+    """Sort key of the default dataset: the widest band of data (µm), then the earlier name."""
+    lo, hi = item.validity_um
+    return (hi - lo, lo)
+
+
 class MaterialLibrary:
     """All materials in one folder of dispersion-data files, read once on first use.
+
+    Each file is named ``<name>.toml`` or, where a material has several published datasets,
+    ``<name>.<dataset>.toml``.
 
     Parameters
     ----------
     directory : path-like or importlib.resources.abc.Traversable
-        Folder holding ``*.toml`` files; each file name must be its material's name.
+        Folder holding ``*.toml`` files.
     """
 
     def __init__(self, directory):
         self.directory = directory
         self._by_key = None
         self._materials = None
+        self._default = None
 
     def _load(self):
         if self._materials is not None:
@@ -140,15 +153,28 @@ class MaterialLibrary:
             with importlib.resources.as_file(file) as real_path:
                 item = load_material(real_path)
             stem = file.name[:-len(".toml")]
-            if item.name != stem:
-                raise ValueError(f"{file}: key 'name' = {item.name!r} must equal the file name "
-                                 f"{stem!r}")
-            found[item.name] = item
+            if stem not in (item.name, f"{item.name}.{item.dataset}"):
+                raise ValueError(f"{file}: key 'name' = {item.name!r} with dataset "
+                                 f"{item.dataset!r} needs the file name {item.name}.toml or "
+                                 f"{item.name}.{item.dataset}.toml, not {file.name}")
+            sets = found.setdefault(item.name, {})
+            if item.dataset in sets:
+                raise ValueError(f"{file}: dataset {item.dataset!r} of {item.name!r} is given "
+                                 f"twice; allowed: one file per dataset")
+            first = next(iter(sets.values()), None)
+            if first is not None and (first.kind, first.optical_sign) != (item.kind,
+                                                                          item.optical_sign):
+                raise ValueError(f"{file}: kind {item.kind!r}, optical_sign "
+                                 f"{item.optical_sign!r} differ from dataset {first.dataset!r} "
+                                 f"of {item.name!r}; allowed: datasets of one material agree")
+            sets[item.dataset] = item
             for label in (item.name, *item.aliases):
                 other = by_key.setdefault(_key(label), item.name)
                 if other != item.name:
                     raise ValueError(f"{file}: name or alias {label!r} is already used by "
                                      f"{other!r}; allowed: names unique in the library")
+        self._default = {name: max(sorted(sets), key=lambda d: _band_width(sets[d]))
+                         for name, sets in found.items()}
         self._materials, self._by_key = found, by_key
 
     def names(self) -> list:
@@ -156,8 +182,7 @@ class MaterialLibrary:
         self._load()
         return sorted(self._materials)
 
-    def get(self, name: str, strict: bool = False):
-        """The material called ``name`` (or an alias); see :func:`material`."""
+    def _canonical(self, name):
         if not isinstance(name, str):
             raise UnknownMaterialError(f"material name {name!r} must be a string")
         self._load()
@@ -168,7 +193,26 @@ class MaterialLibrary:
             hint = (f"closest matches: {', '.join(close)}" if close
                     else f"known: {', '.join(self.names()) or '(none)'}")
             raise UnknownMaterialError(f"unknown material {name!r}; {hint}")
-        item = self._materials[canonical]
+        return canonical
+
+    def datasets(self, name: str) -> list:
+        """Dataset names of material ``name``, the default first; see :func:`material_datasets`."""
+        canonical = self._canonical(name)
+        default = self._default[canonical]
+        return [default] + sorted(d for d in self._materials[canonical] if d != default)
+
+    def get(self, name: str, strict: bool = False, dataset=None):
+        """The material called ``name`` (or an alias); see :func:`material`."""
+        canonical = self._canonical(name)
+        sets = self._materials[canonical]
+        if dataset is None:
+            item = sets[self._default[canonical]]
+        else:
+            key = dataset.strip().lower() if isinstance(dataset, str) else None
+            if key not in sets:
+                raise ValueError(f"dataset = {dataset!r} is not a dataset of {canonical}; "
+                                 f"allowed: {', '.join(self.datasets(canonical))}")
+            item = sets[key]
         return item.with_strict(True) if strict else item
 
 
@@ -190,7 +234,7 @@ def _bundled() -> MaterialLibrary:
     return MaterialLibrary(_data_directory())
 
 
-def material(name: str, strict: bool = False):
+def material(name: str, strict: bool = False, dataset=None):
     """Look up a bundled material by name or alias.
 
     Parameters
@@ -201,6 +245,9 @@ def material(name: str, strict: bool = False):
     strict : bool, optional
         If true, the returned material raises ``ValueError`` for wavelengths outside its
         validity range instead of warning.
+    dataset : str, optional
+        Plain name of one of the material's published datasets (``material_datasets(name)`` lists
+        them, e.g. ``"shi-2001"`` for YVO4); default: the one covering the widest band.
 
     Returns
     -------
@@ -210,8 +257,19 @@ def material(name: str, strict: bool = False):
     ------
     UnknownMaterialError
         No such name; the message lists the closest matches.
+    ValueError
+        No such dataset; the message lists the material's datasets.
     """
-    return _bundled().get(name, strict=strict)
+    return _bundled().get(name, strict=strict, dataset=dataset)
+
+
+def material_datasets(name: str) -> list:
+    """Plain names of the published datasets of a bundled material, the default first.
+
+    The default is the dataset whose data cover the widest wavelength band; pass any of the
+    names as ``material(name, dataset=...)``.
+    """
+    return _bundled().datasets(name)
 
 
 def materials() -> list:

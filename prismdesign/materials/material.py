@@ -7,7 +7,9 @@ temperature travel with the object.
 """
 from __future__ import annotations
 
+import re
 import sys
+import unicodedata
 import warnings
 from dataclasses import dataclass, field, replace
 from typing import Optional
@@ -109,6 +111,36 @@ class DispersionModel:
         """dn/dλ in µm⁻¹ at ``wavelength_um`` (µm, any shape); no range checks."""
         return FORMULAS[self.formula].dn_dwl(wavelength_um, **self._kwargs)
 
+    @property
+    def poles_um(self) -> tuple:
+        """Resonance wavelengths (µm) of the formula, sorted; empty for pole-free forms."""
+        return FORMULAS[self.formula].poles_um(self._kwargs)
+
+
+DATASET_PATTERN = re.compile(r"[a-z0-9]+(-[a-z0-9]+)*")
+
+
+def dataset_from_reference(reference) -> str:
+    """Plain dataset name made from a reference: first author's surname and year, e.g.
+    ``"ghosh-1999"``; ``"typical"`` for typical-value entries, ``"unnamed"`` without one."""
+    if reference is None:
+        return "unnamed"
+    if reference.authors.lower().startswith("none"):
+        return "typical"
+    surname = reference.short.split(" (")[0].rsplit(" ", 1)[0]
+    ascii_ = unicodedata.normalize("NFKD", surname).encode("ascii", "ignore").decode()
+    words = re.findall(r"[a-z0-9]+", ascii_.lower())
+    return "-".join(words + [str(reference.year)])
+
+
+def _unphysical(model: DispersionModel, n) -> np.ndarray:
+    """Where ``n`` is no index of a material: not finite, or n ≤ 1.
+
+    A stated constant index of exactly 1 (vacuum) is exact, not a failing fit.
+    """
+    n = np.asarray(n, dtype=float)
+    return ~((n > 1.0) | ((n == 1.0) & (model.formula == "constant")))
+
 
 def _warn(message: str, category) -> None:
     """Warn at the first frame outside this module, so the message points at the user's call."""
@@ -140,20 +172,107 @@ class _MaterialBase:
                              f"increasing positive wavelengths in µm")
         object.__setattr__(self, "validity_um", (float(lo), float(hi)))
         object.__setattr__(self, "aliases", tuple(self.aliases))
+        if not self.dataset:
+            object.__setattr__(self, "dataset", dataset_from_reference(self.reference))
+        if not isinstance(self.dataset, str) or not DATASET_PATTERN.fullmatch(self.dataset):
+            raise ValueError(f"{self.name}: dataset = {self.dataset!r} must be a plain name of "
+                             f"lower-case letters, digits and single hyphens, e.g. 'ghosh-1999'")
         if self.transparency_um is not None:
             object.__setattr__(self, "transparency_um", tuple(map(float, self.transparency_um)))
+        poles = sorted({p for model in self._models().values() for p in model.poles_um})
+        inside = [p for p in poles if lo <= p <= hi]
+        if inside:
+            raise ValueError(f"{self.name}: its dispersion formula has a resonance at "
+                             f"{inside[0]:.6g} µm, inside validity_um = {[lo, hi]}; allowed: "
+                             f"poles outside the range of the data")
+        # The formula describes the material only between the resonances that bracket its data.
+        below = [p for p in poles if p < lo]
+        above = [p for p in poles if p > hi]
+        object.__setattr__(self, "_poles_around", (below[-1] if below else None,
+                                                   above[0] if above else None))
         # Evaluating the models across the band catches coefficient sets that go unphysical
         # (n² ≤ 0, a pole) inside their own stated range.
         grid = np.geomspace(lo, hi, 65)
         for part, model in self._models().items():
             try:
-                model.n(grid)
+                n = model.n(grid)
             except ValueError as error:
                 raise ValueError(f"{self.name} [{part}]: {error}; this lies inside validity_um "
                                  f"= {list(self.validity_um)}") from None
+            bad = _unphysical(model, n)
+            if np.any(bad):
+                raise ValueError(f"{self.name} [{part}]: n = {float(n[bad][0]):.6g} at "
+                                 f"wavelength_um = {float(grid[bad][0]):.6g}, inside validity_um "
+                                 f"= {list(self.validity_um)}; allowed: n > 1 across the data")
 
     def _models(self):
         raise NotImplementedError
+
+    @property
+    def label(self) -> str:
+        """Name and dataset as shown in tables and figures, e.g. ``"yvo4 (lomheim-1978)"``."""
+        return f"{self.name} ({self.dataset})"
+
+    def _transmits_um(self):
+        """Transparency window, widened to the data range where a file states it narrower (the
+        data were measured through the material, so it transmits wherever they hold)."""
+        if self.transparency_um is None:
+            return 0.0, np.inf
+        (t_lo, t_hi), (lo, hi) = self.transparency_um, self.validity_um
+        return min(t_lo, lo), max(t_hi, hi)
+
+    @property
+    def usable_um(self) -> tuple:
+        """(min, max) wavelength in µm at which an index is given at all.
+
+        The transparency window, narrowed to the stretch between the dispersion formula's
+        resonances that bracket its data; without a transparency window, that stretch alone
+        (``0`` and ``inf`` where no resonance bounds it).  Inside it but outside
+        :attr:`validity_um` the index is extrapolated with a warning; outside it every call
+        raises ``ValueError``.
+        """
+        lo, hi = self._transmits_um()
+        below, above = self._poles_around
+        return (max(lo, below) if below is not None else lo,
+                min(hi, above) if above is not None else hi)
+
+    def _check_usable(self, lam):
+        """Refuse wavelengths where the material is opaque or the formula passes a resonance."""
+        t_lo, t_hi = self._transmits_um()
+        below, above = self._poles_around
+        outside = (lam < t_lo) | (lam > t_hi)
+        # At a resonance itself the formula is infinite: the poles are excluded, not reached.
+        if below is not None:
+            outside |= lam <= below
+        if above is not None:
+            outside |= lam >= above
+        if not np.any(outside):
+            return
+        lo, hi = self.usable_um
+        worst = float(lam[outside].min() if np.any(lam[outside] <= lo) else lam[outside].max())
+        window = f"{lo:g}-{hi:g} µm"
+        if not t_lo <= worst <= t_hi:
+            why = (f"outside its transparency window {t_lo:g}-{t_hi:g} µm, where the material "
+                   f"is opaque")
+        else:
+            pole = below if below is not None and worst <= below else above
+            why = (f"beyond the resonance of its dispersion formula at {pole:.4g} µm, where the "
+                   f"formula no longer describes the material")
+        raise ValueError(f"{self.label}: wavelength_um = {worst:g} lies {why}; no index is given "
+                         f"there (allowed: {window}, data {self.validity_um[0]:g}-"
+                         f"{self.validity_um[1]:g} µm, {self._source()})")
+
+    def _check_physical(self, model, lam, n):
+        """Refuse an index a dispersion formula gives but no material has (n ≤ 1 or not finite)."""
+        n = np.asarray(n, dtype=float)
+        bad = _unphysical(model, n)
+        if np.any(bad):
+            where = np.broadcast_to(lam, n.shape)[bad]
+            raise ValueError(f"{self.label}: its dispersion formula gives n = "
+                             f"{float(n[bad].flat[0]):.6g} at wavelength_um = "
+                             f"{float(where.flat[0]):g}, not a physical index (allowed: finite "
+                             f"n > 1; data {self.validity_um[0]:g}-{self.validity_um[1]:g} µm, "
+                             f"{self._source()})")
 
     def _wavelength(self, wavelength_um, strict):
         try:
@@ -170,6 +289,7 @@ class _MaterialBase:
         if np.any(bad):
             raise ValueError(f"wavelength_um = {float(lam[bad].flat[0])!r} must be positive and "
                              f"finite (µm)")
+        self._check_usable(lam)
         lo, hi = self.validity_um
         outside = (lam < lo) | (lam > hi)
         if np.any(outside):
@@ -239,11 +359,14 @@ class _MaterialBase:
                                  f"temperature_c of shape {np.shape(temperature_c)} do not "
                                  f"broadcast; allowed: numpy-broadcastable shapes") from None
         try:
-            value = model.n(lam) + shift
-            if group:
-                value = value - lam * model.dn_dwl(lam)
+            n = model.n(lam)
         except ValueError as error:
-            raise ValueError(f"{self.name}: {error}") from None
+            raise ValueError(f"{self.label}: {error}; data {self.validity_um[0]:g}-"
+                             f"{self.validity_um[1]:g} µm, {self._source()}") from None
+        value = n + shift
+        self._check_physical(model, lam, value)
+        if group:
+            value = value - lam * model.dn_dwl(lam)
         scalar = np.ndim(value) == 0
         return _as_result(value, scalar)
 
@@ -292,8 +415,11 @@ class IsotropicMaterial(_MaterialBase):
     dn_dt_per_c: Optional[float] = None
     thermo_reference: str = ""
     thermo_range_c: Optional[tuple] = None
+    dataset: str = ""
     strict: bool = False
     _warned: set = field(default_factory=set, init=False, repr=False, compare=False, hash=False)
+    _poles_around: tuple = field(default=(None, None), init=False, repr=False, compare=False,
+                                 hash=False)
 
     kind = "isotropic"
     optical_sign = None
@@ -359,8 +485,11 @@ class UniaxialMaterial(_MaterialBase):
     dn_dt_e_per_c: Optional[float] = None
     thermo_reference: str = ""
     thermo_range_c: Optional[tuple] = None
+    dataset: str = ""
     strict: bool = False
     _warned: set = field(default_factory=set, init=False, repr=False, compare=False, hash=False)
+    _poles_around: tuple = field(default=(None, None), init=False, repr=False, compare=False,
+                                 hash=False)
 
     kind = "uniaxial"
 

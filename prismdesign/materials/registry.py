@@ -40,6 +40,10 @@ class FormulaSpec:
         Groups of list keys that must have the same length.
     one_of : tuple of tuple of str
         Groups from which exactly one key must be given (e.g. ``C`` or ``pole_um``).
+    pole_keys : tuple of str
+        Keyword arguments of :attr:`n` holding poles Cᵢ in µm² (resonance at λ = √Cᵢ).
+    inverse_pole_keys : tuple of str
+        Keyword arguments of :attr:`n` holding poles Cᵢ in µm⁻² (resonance at λ = 1/√Cᵢ).
     """
 
     name: str
@@ -52,6 +56,8 @@ class FormulaSpec:
     required: tuple = ()
     equal_length: tuple = ()
     one_of: tuple = ()
+    pole_keys: tuple = ()
+    inverse_pole_keys: tuple = ()
 
     @property
     def allowed_keys(self) -> tuple:
@@ -69,6 +75,18 @@ class FormulaSpec:
                 kwargs.setdefault(key, default)
         return kwargs
 
+    def poles_um(self, kwargs: dict) -> tuple:
+        """Resonance wavelengths (µm) of the model with keyword arguments ``kwargs``, sorted.
+
+        A dispersion formula describes the material only on the side of a resonance where it was
+        fitted; beyond it the formula is a different branch of the function, not the material.
+        Non-positive poles lie at no real wavelength and are left out.
+        """
+        poles = [np.sqrt(c) for key in self.pole_keys for c in kwargs.get(key, ()) if c > 0]
+        poles += [1.0 / np.sqrt(c) for key in self.inverse_pole_keys for c in kwargs.get(key, ())
+                  if c > 0]
+        return tuple(sorted(float(p) for p in poles))
+
 
 FORMULAS: dict[str, FormulaSpec] = {
     spec.name: spec
@@ -77,15 +95,16 @@ FORMULAS: dict[str, FormulaSpec] = {
                     f.sellmeier, f.sellmeier_dn_dwl,
                     float_keys={"A": 1.0, "D": 0.0}, list_keys=("B", "C", "pole_um"),
                     required=("B",), equal_length=(("B", "C"), ("B", "pole_um")),
-                    one_of=(("C", "pole_um"),)),
+                    one_of=(("C", "pole_um"),), pole_keys=("C",)),
         FormulaSpec("sellmeier_reciprocal", "n² = A + Σ Bᵢ/(λ² − Cᵢ) − D λ²",
                     f.sellmeier_reciprocal, f.sellmeier_reciprocal_dn_dwl,
                     float_keys={"A": None, "D": 0.0}, list_keys=("B", "C"),
-                    required=("A", "B", "C"), equal_length=(("B", "C"),)),
+                    required=("A", "B", "C"), equal_length=(("B", "C"),), pole_keys=("C",)),
         FormulaSpec("sellmeier_mixed", "n² = A + Σ Bᵢ/(λ² − Cᵢ) + Σ Fⱼ λ²/(λ² − Gⱼ) − D λ²",
                     f.sellmeier_mixed, f.sellmeier_mixed_dn_dwl,
                     float_keys={"A": None, "D": 0.0}, list_keys=("B", "C", "F", "G"),
-                    required=("A", "B", "C", "F", "G"), equal_length=(("B", "C"), ("F", "G"))),
+                    required=("A", "B", "C", "F", "G"), equal_length=(("B", "C"), ("F", "G")),
+                    pole_keys=("C", "G")),
         FormulaSpec("cauchy", "n = Σ aₖ λ^(−2k)", f.cauchy, f.cauchy_dn_dwl,
                     list_keys=("coefficients",), required=("coefficients",)),
         FormulaSpec("power_series_n2", "n² = Σ aₖ λ^pₖ",
@@ -95,7 +114,8 @@ FORMULAS: dict[str, FormulaSpec] = {
                     equal_length=(("coefficients", "powers"),)),
         FormulaSpec("gas_two_term", "n − 1 = Σ Bᵢ/(Cᵢ − λ⁻²)",
                     f.gas_two_term, f.gas_two_term_dn_dwl,
-                    list_keys=("B", "C"), required=("B", "C"), equal_length=(("B", "C"),)),
+                    list_keys=("B", "C"), required=("B", "C"), equal_length=(("B", "C"),),
+                    inverse_pole_keys=("C",)),
         FormulaSpec("constant", "n = value", f.constant, f.constant_dn_dwl,
                     float_keys={"value": None}, required=("value",)),
     )

@@ -15,7 +15,7 @@ __all__ = ["SCHEMA_VERSION", "material_from_dict", "material_to_dict"]
 
 SCHEMA_VERSION = 1
 
-_COMMON = {"schema", "name", "aliases", "kind", "temperature_c", "validity_um",
+_COMMON = {"schema", "name", "dataset", "aliases", "kind", "temperature_c", "validity_um",
            "transparency_um", "notes", "reference", "thermo_optic"}
 _KIND_KEYS = {"uniaxial": {"optical_sign", "ordinary", "extraordinary"},
               "isotropic": {"index"}}
@@ -139,8 +139,12 @@ def material_from_dict(data: dict, where: str):
     aliases = data.get("aliases", [])
     if not isinstance(aliases, list) or not all(isinstance(a, str) and a.strip() for a in aliases):
         _fail(where, "aliases", aliases, "a list of non-empty strings")
+    dataset = _string(where, "dataset", data.get("dataset", ""))
+    if "dataset" in data and not dataset:
+        _fail(where, "dataset", dataset, "a plain name such as 'ghosh-1999'")
     common = dict(
         name=name,
+        dataset=dataset,
         aliases=tuple(aliases),
         temperature_c=_number(where, "temperature_c", data["temperature_c"]),
         validity_um=_band(where, "validity_um", data["validity_um"]),
@@ -177,8 +181,8 @@ def _dispersion_table(model: DispersionModel) -> dict:
 
 def material_to_dict(material) -> dict:
     """The schema-1 document of ``material`` (inverse of :func:`material_from_dict`)."""
-    data = {"schema": SCHEMA_VERSION, "name": material.name, "aliases": list(material.aliases),
-            "kind": material.kind}
+    data = {"schema": SCHEMA_VERSION, "name": material.name, "dataset": material.dataset,
+            "aliases": list(material.aliases), "kind": material.kind}
     if material.kind == "uniaxial":
         data["optical_sign"] = material.optical_sign
     data["temperature_c"] = float(material.temperature_c)
