@@ -28,7 +28,7 @@ def _jit(**options):
     """numba.njit with the project's options: cached, and numpy's rules for 1/0 and NaN."""
     def decorate(func):
         try:
-            return numba.njit(cache=True, error_model="numpy", **options)(func)
+            return numba.njit(cache=True, error_model="numpy", fastmath={"contract"}, **options)(func)
         except RuntimeError:
             # numba raises when no cache location is writable (read-only install and no user
             # cache directory): compile in every process instead.
@@ -79,8 +79,8 @@ def local_field(q, kappa, n_o, n_e, cx, cy, cz, extraordinary, tol2):
 
 @_jit()
 def unit(fx, fy, fz):
-    size = np.sqrt(abs2(fx) + abs2(fy) + abs2(fz))
-    return fx / size, fy / size, fz / size
+    inv = 1.0 / np.sqrt(abs2(fx) + abs2(fy) + abs2(fz))
+    return fx * inv, fy * inv, fz * inv
 
 @_jit()
 def solve4(a, b, equilibrate):
@@ -138,6 +138,7 @@ def solve4(a, b, equilibrate):
 def finish(i, q, fx, fy, fz, kappa, n_o, n_e, cx, cy, cz, ev, x, flux_in,
            u1x, u1y, u1z, u2x, u2y, u2z, nx, ny, nz, out_c, out_p, out_q, out_e, out_s):
     """Power fractions, ray directions and global fields of one wave; write them."""
+    inv_flux_in = 1.0 / (flux_in if flux_in > 0 else 1.0)
     # Internal wave w (to, ro, te, re) -> public slot (to, te, ro, re).
     for w in range(4):
         j = (0, 2, 1, 3)[w]
@@ -150,8 +151,7 @@ def finish(i, q, fx, fy, fz, kappa, n_o, n_e, cx, cy, cz, ev, x, flux_in,
             coef = -coef
         out_c[i, j] = coef
         out_q[i, j] = qw
-        fi = flux_in if flux_in > 0 else 1.0
-        out_p[i, j] = 0.0 if ev[w] else abs2(coef) * abs(flux) / fi
+        out_p[i, j] = 0.0 if ev[w] else abs2(coef) * abs(flux) * inv_flux_in
         m = w // 2                              # 0: o pair, 1: e pair
         med = w % 2                             # 0: medium 2 (transmitted), 1: medium 1
         no, ne = n_o[med], n_e[med]
@@ -169,8 +169,8 @@ def finish(i, q, fx, fy, fz, kappa, n_o, n_e, cx, cy, cz, ev, x, flux_in,
             else:
                 ck = (ne * ne - no2) * (ax * kappa + az * qr)
                 sx, sy, sz = no2 * kappa + ck * ax, ck * ay, no2 * qr + ck * az
-        s_len = np.sqrt(sx * sx + sy * sy + sz * sz)
-        sx, sy, sz = sx / s_len, sy / s_len, sz / s_len
+        inv_len = 1.0 / np.sqrt(sx * sx + sy * sy + sz * sz)
+        sx, sy, sz = sx * inv_len, sy * inv_len, sz * inv_len
         out_e[i, j, 0] = ex * u1x + ey * u2x + ez * nx
         out_e[i, j, 1] = ex * u1y + ey * u2y + ez * ny
         out_e[i, j, 2] = ex * u1z + ey * u2z + ez * nz
@@ -306,8 +306,8 @@ def kernel(k_in, e_in, normal, n_o1, n_e1, c1, n_o2, n_e2, c2,
                 kappa = 0.0
             w_n = wx * nx + wy * ny + wz * nz
             wx, wy, wz = wx - w_n * nx, wy - w_n * ny, wz - w_n * nz
-            w_len = np.sqrt(wx * wx + wy * wy + wz * wz)
-            u2x, u2y, u2z = wx / w_len, wy / w_len, wz / w_len
+            inv_w = 1.0 / np.sqrt(wx * wx + wy * wy + wz * wz)
+            u2x, u2y, u2z = wx * inv_w, wy * inv_w, wz * inv_w
             u1x, u1y, u1z = u2y * nz - u2z * ny, u2z * nx - u2x * nz, u2x * ny - u2y * nx
             el_x = ex * u1x + ey * u1y + ez * u1z
             el_y = ex * u2x + ey * u2y + ez * u2z
