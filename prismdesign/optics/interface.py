@@ -383,6 +383,8 @@ def solve_interface(wave_vector_in, field_in, normal, indices_1, axis_1, indices
 
 #: Rays per work item of the compiled kernel (items are shared out among the threads).
 _COMPILED_CHUNK = 512
+#: Batches smaller than this run serially (see _solve_compiled).
+_COMPILED_SERIAL_BELOW = 4096
 
 
 def _kernel_input(a, shape, size, tail, dtype):
@@ -403,7 +405,7 @@ def _kernel_input(a, shape, size, tail, dtype):
 def _solve_compiled(k_in, e_in, normal, n_o1, n_e1, axis_1, n_o2, n_e2, axis_2, layer_arrays,
                     shape, size):
     """solve_interface through the compiled kernel; outputs are ray-first and C-contiguous."""
-    from .compiled_interface import kernel
+    from .compiled_interface import kernel, solve_rays
 
     def vec(a, dtype=float):
         return _kernel_input(a, shape, size, (3,), dtype)
@@ -420,11 +422,17 @@ def _solve_compiled(k_in, e_in, normal, n_o1, n_e1, axis_1, n_o2, n_e2, axis_2, 
            "normal": np.empty((size, 3)), "normal_component": np.empty((size, 4), complex),
            "_tangential": np.empty((size, 3)), "e_field": np.empty((size, 4, 3), complex),
            "ray_direction": np.empty((size, 4, 3))}
-    kernel(vec(k_in), vec(e_in, complex), vec(normal), sca(n_o1), sca(n_e1), vec(axis_1),
-           sca(n_o2), sca(n_e2), vec(axis_2), layer_n, layer_wl, layer_t, bool(layer_arrays),
-           DEGENERATE_AXIS_TOLERANCE, _COMPILED_CHUNK,
-           out["coefficient"], out["power_fraction"], out["evanescent"], out["singular"],
-           out["normal"], out["normal_component"], out["_tangential"], out["e_field"],
-           out["ray_direction"])
+    inputs = (vec(k_in), vec(e_in, complex), vec(normal), sca(n_o1), sca(n_e1), vec(axis_1),
+              sca(n_o2), sca(n_e2), vec(axis_2), layer_n, layer_wl, layer_t, bool(layer_arrays),
+              DEGENERATE_AXIS_TOLERANCE)
+    outputs = (out["coefficient"], out["power_fraction"], out["evanescent"], out["singular"],
+               out["normal"], out["normal_component"], out["_tangential"], out["e_field"],
+               out["ray_direction"])
+    if size < _COMPILED_SERIAL_BELOW:
+        # Waking the worker threads costs more than a few thousand rays (up to milliseconds on
+        # a busy machine): small batches run on the calling thread.
+        solve_rays(0, size, *inputs, *outputs)
+    else:
+        kernel(*inputs, _COMPILED_CHUNK, *outputs)
     views = {key: value.reshape(shape + value.shape[1:]) for key, value in out.items()}
     return InterfaceResult(**views)
