@@ -27,9 +27,10 @@ __all__ = ["kernel", "solve_rays"]
 def _jit(**options):
     """numba.njit with the project's options: cached, and numpy's rules for 1/0 and NaN.
 
-    No fast-math flags, not even fused multiply-adds: the kernel then reproduces the numpy
-    reference to the last bit on bare interfaces (measured), so the comparison tests stay strict
-    even on ill-conditioned rays (near critical angles), at a cost of a few per cent in speed.
+    No fast-math flags, not even fused multiply-adds: the kernel then follows the numpy
+    reference operation by operation (bit for bit where numpy computes in real arithmetic; within
+    ~1e-14 in power fractions where numpy's complex products differ in the last bit), so the
+    comparison tests stay strict even on ill-conditioned rays near critical angles.
     """
     def decorate(func):
         try:
