@@ -16,7 +16,17 @@ Speed: the solve works in the local frame (û₁ along the tangential wave vecto
 where k = (κ, 0, q) and every cross product collapses to a few products; arrays are
 component-wise and contiguous, processed in cache-sized blocks, and real-valued unless a wave is
 evanescent or a layer is present.
+
+Two implementations of the same solve: the numpy code below (the readable reference) and a
+compiled per-ray kernel (:mod:`.compiled_interface`, needs numba: ``pip install
+"prismdesign[fast]"``), used automatically when numba is installed. :func:`set_kernel` or the
+environment variable ``PRISMDESIGN_KERNEL`` (``auto``, ``numpy`` or ``compiled``, read at import)
+choose one explicitly.
 """
+import importlib.util
+import os
+import warnings
+
 import numpy as np
 
 from .eigenmodes import DEGENERATE_AXIS_TOLERANCE, normal_roots
@@ -24,7 +34,8 @@ from .linear4 import solve4_components
 from .thin_layer import layer_transfer_matrix
 from .vectors import cross
 
-__all__ = ["InterfaceResult", "solve_interface", "MODE_ORDER", "BLOCK_SIZE"]
+__all__ = ["InterfaceResult", "solve_interface", "MODE_ORDER", "BLOCK_SIZE", "set_kernel",
+           "active_kernel", "KERNEL_VARIABLE"]
 
 #: Order of the outgoing waves on the mode axis: transmitted o, transmitted e, reflected o,
 #: reflected e. In an isotropic medium "o" is the s-wave and "e" the p-wave.
@@ -32,6 +43,56 @@ MODE_ORDER = ("to", "te", "ro", "re")
 
 #: Rays per block: keeps the working arrays of one block inside the CPU cache.
 BLOCK_SIZE = 8192
+
+#: Environment variable naming the implementation at import: "auto" (default: compiled when
+#: numba is installed), "numpy" or "compiled".
+KERNEL_VARIABLE = "PRISMDESIGN_KERNEL"
+_KERNELS = ("auto", "numpy", "compiled")
+#: numba present? Checked without importing it (the import costs ~0.3 s; done on first use).
+_NUMBA_FOUND = importlib.util.find_spec("numba") is not None
+_kernel_choice = "auto"
+
+
+def set_kernel(name):
+    """Choose the implementation of :func:`solve_interface` for this process.
+
+    Parameters
+    ----------
+    name : {"auto", "numpy", "compiled"}
+        "auto" uses the compiled kernel when numba is installed and numpy otherwise; "numpy" the
+        reference implementation; "compiled" the numba kernel (numba must be installed).
+
+    Returns
+    -------
+    str
+        The previous choice, so a caller can restore it.
+    """
+    global _kernel_choice
+    if name not in _KERNELS:
+        raise ValueError(f"kernel must be one of {', '.join(_KERNELS)}, got {name!r}")
+    if name == "compiled" and not _NUMBA_FOUND:
+        raise ValueError("kernel 'compiled' needs numba, which is not installed "
+                         "(pip install \"prismdesign[fast]\")")
+    previous, _kernel_choice = _kernel_choice, name
+    return previous
+
+
+def active_kernel():
+    """The implementation :func:`solve_interface` uses now: "numpy" or "compiled"."""
+    if _kernel_choice == "compiled" or (_kernel_choice == "auto" and _NUMBA_FOUND):
+        return "compiled"
+    return "numpy"
+
+
+def _kernel_from_environment():
+    value = os.environ.get(KERNEL_VARIABLE, "auto").strip().lower() or "auto"
+    try:
+        set_kernel(value)
+    except ValueError as error:
+        warnings.warn(f"{KERNEL_VARIABLE} ignored: {error}", RuntimeWarning, stacklevel=2)
+
+
+_kernel_from_environment()
 
 
 class InterfaceResult:
@@ -72,6 +133,17 @@ class InterfaceResult:
             self._k = (self._tangential[..., None, :]
                        + self.normal_component[..., None] * self.normal[..., None, :])
         return self._k
+
+    def propagating_wave_vector(self, mode):
+        """Real part of one wave's wave vector, shape (..., 3), without forming all four.
+
+        Parameters
+        ----------
+        mode : int
+            Position on the mode axis (see MODE_ORDER).
+        """
+        return (self._tangential
+                + self.normal_component[..., mode].real[..., None] * self.normal)
 
     @property
     def h_field(self):
@@ -275,6 +347,9 @@ def solve_interface(wave_vector_in, field_in, normal, indices_1, axis_1, indices
                                 axis_1.shape[:-1], axis_2.shape[:-1], n_o1.shape, n_e1.shape,
                                 n_o2.shape, n_e2.shape, *(v.shape for v in layer_arrays))
     size = int(np.prod(shape))
+    if active_kernel() == "compiled":
+        return _solve_compiled(k_in, e_in, normal, n_o1, n_e1, axis_1, n_o2, n_e2, axis_2,
+                               layer_arrays, shape, size)
 
     def vectors(a):
         return np.broadcast_to(a, shape + (3,)).reshape(size, 3).T
@@ -303,4 +378,61 @@ def solve_interface(wave_vector_in, field_in, normal, indices_1, axis_1, indices
         run(start)
     # Views with the ray axis first, then split into the broadcast shape (no copies).
     views = {key: value.T.reshape(shape + value.shape[:-1][::-1]) for key, value in out.items()}
+    return InterfaceResult(**views)
+
+
+#: Rays per work item of the compiled kernel (items are shared out among the threads).
+_COMPILED_CHUNK = 512
+#: Batches smaller than this run serially (see _solve_compiled).
+_COMPILED_SERIAL_BELOW = 4096
+
+
+def _kernel_input(a, shape, size, tail, dtype):
+    """A C-contiguous, writeable (m, *tail) array with m = size, or m = 1 for a value shared by
+    every ray (the kernel then reads row 0): no copy of a broadcast constant."""
+    lead = a.shape[:a.ndim - len(tail)]
+    if lead == shape:
+        flat = a.reshape((size,) + tail)
+    elif int(np.prod(lead)) == 1:
+        flat = a.reshape((1,) + tail)
+    else:
+        flat = np.broadcast_to(a, shape + tail).reshape((size,) + tail)
+    flat = np.ascontiguousarray(flat, dtype=dtype)
+    # One compiled signature: read-only arrays (broadcasts, user constants) are copied.
+    return flat if flat.flags.writeable else flat.copy()
+
+
+def _solve_compiled(k_in, e_in, normal, n_o1, n_e1, axis_1, n_o2, n_e2, axis_2, layer_arrays,
+                    shape, size):
+    """solve_interface through the compiled kernel; outputs are ray-first and C-contiguous."""
+    from .compiled_interface import kernel, solve_rays
+
+    def vec(a, dtype=float):
+        return _kernel_input(a, shape, size, (3,), dtype)
+
+    def sca(a):
+        return _kernel_input(a, shape, size, (), float)
+
+    if layer_arrays:
+        layer_n, layer_wl, layer_t = (sca(v) for v in layer_arrays)
+    else:
+        layer_n = layer_wl = layer_t = np.zeros(1)
+    out = {"coefficient": np.empty((size, 4), complex), "power_fraction": np.empty((size, 4)),
+           "evanescent": np.empty((size, 4), bool), "singular": np.empty(size, bool),
+           "normal": np.empty((size, 3)), "normal_component": np.empty((size, 4), complex),
+           "_tangential": np.empty((size, 3)), "e_field": np.empty((size, 4, 3), complex),
+           "ray_direction": np.empty((size, 4, 3))}
+    inputs = (vec(k_in), vec(e_in, complex), vec(normal), sca(n_o1), sca(n_e1), vec(axis_1),
+              sca(n_o2), sca(n_e2), vec(axis_2), layer_n, layer_wl, layer_t, bool(layer_arrays),
+              DEGENERATE_AXIS_TOLERANCE)
+    outputs = (out["coefficient"], out["power_fraction"], out["evanescent"], out["singular"],
+               out["normal"], out["normal_component"], out["_tangential"], out["e_field"],
+               out["ray_direction"])
+    if size < _COMPILED_SERIAL_BELOW:
+        # Waking the worker threads costs more than a few thousand rays (up to milliseconds on
+        # a busy machine): small batches run on the calling thread.
+        solve_rays(0, size, *inputs, *outputs)
+    else:
+        kernel(*inputs, _COMPILED_CHUNK, *outputs)
+    views = {key: value.reshape(shape + value.shape[1:]) for key, value in out.items()}
     return InterfaceResult(**views)
