@@ -76,7 +76,7 @@ class MonteCarloResult:
     @property
     def worst_relative_margin(self):
         """Least margin over its scale per sample (−inf where a beam is lost), shape (N,)."""
-        rel = [np.where(np.isfinite(m), m / self.scales[k], -np.inf)
+        rel = [np.where(np.isnan(m), -np.inf, m / self.scales[k])
                for k, m in self.margins.items()]
         return np.min(rel, axis=0)
 
@@ -127,11 +127,11 @@ def _progress(done, total, stream):
 
 
 def passing(margins):
-    """True where every margin is finite and >= 0."""
+    """True where every margin is defined and >= 0 (+inf: nothing to meet there)."""
     values = list(margins.values())
     ok = np.ones(np.shape(values[0]), dtype=bool)
     for m in values:
-        ok &= np.isfinite(m) & (m >= 0)
+        ok &= ~np.isnan(m) & (m >= 0)
     return ok
 
 

@@ -165,14 +165,14 @@ def _check_errors(prism, errors):
     names = {p.name for p in prism_parameters(prism, include_temperature=True)}
     arrays = {}
     for name, value in errors.items():
-        if name not in names:
-            parameter(prism, name)  # raises the one-line error with the allowed names
         if name == "temperature_change_c" and not all(has_thermo_optic_data(p.material)
                                                       for p in prism.pieces):
             missing = [getattr(p.material, "name", "?") for p in prism.pieces
                        if not has_thermo_optic_data(p.material)]
             raise ValueError(f"temperature_change_c needs thermo-optic data for every piece; "
                              f"none for {', '.join(sorted(set(missing)))}")
+        if name not in names:
+            parameter(prism, name)  # raises the one-line error with the allowed names
         try:
             if isinstance(value, (str, bytes)):
                 raise TypeError
