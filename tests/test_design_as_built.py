@@ -78,7 +78,7 @@ def test_csv_round_trip_and_bad_columns(synthetic, tmp_path):
     path = tmp_path / "bench.csv"
     rows = ["wavelength_um,first_deviation_deg,second_deviation_deg,sigma_first_deviation_deg,"
             "sigma_second_deviation_deg"]
-    rows += [f"{l!r},{a!r},{b!r},{SIGMA},{SIGMA}" for l, a, b in zip(LAM, exact[:5], exact[5:])]
+    rows += [f"{float(l)!r},{float(a)!r},{float(b)!r},{SIGMA},{SIGMA}" for l, a, b in zip(LAM, exact[:5], exact[5:])]
     path.write_text("\n".join(rows) + "\n", encoding="utf-8")
     data = read_measurements(path)
     assert data.rows == 10
