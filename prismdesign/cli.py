@@ -1,4 +1,4 @@
-"""Command line: ``prismdesign materials | index NAME-OR-FILE | demo | design``.
+"""Command line: ``prismdesign materials | index NAME-OR-FILE | demo | design | tolerance | fit-built``.
 
 A thin shell over the public API: it parses arguments, calls the library and formats text.
 Errors from the library become one line on stderr and exit code 2; warnings (for example a
@@ -190,6 +190,8 @@ def build_parser() -> argparse.ArgumentParser:
     p.set_defaults(run=_demo_command)
     from .cli_design import add_design_parser
     add_design_parser(sub)
+    from .cli_tolerance import add_tolerance_parsers
+    add_tolerance_parsers(sub)
     return parser
 
 

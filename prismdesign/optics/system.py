@@ -74,8 +74,9 @@ class Medium:
     optic_axis : array_like, shape (3,) or (..., 3), optional
         Unit optic axis in the global frame; required for uniaxial materials. May carry
         leading axes (e.g. Monte Carlo samples) that broadcast against the rays.
-    temperature_c : float, optional
-        Temperature of this medium in °C; None means the data temperature.
+    temperature_c : float or array_like, optional
+        Temperature of this medium in °C; None means the data temperature. An array carries
+        leading sample axes (e.g. Monte Carlo samples) that broadcast against the rays.
     """
 
     material: object
@@ -90,6 +91,12 @@ class Medium:
                 raise ValueError(f"medium of uniaxial material {name!r} needs an optic_axis (unit 3-vector)")
         else:
             object.__setattr__(self, "optic_axis", as_unit_vectors(self.optic_axis, "optic_axis"))
+        if self.temperature_c is not None:
+            t = np.asarray(self.temperature_c, dtype=float)
+            if not np.all(np.isfinite(t)) or np.any(t < -273.15):
+                raise ValueError(f"medium temperature_c must be finite and above -273.15 °C, got "
+                                 f"{self.temperature_c!r}")
+            object.__setattr__(self, "temperature_c", float(t) if t.ndim == 0 else t)
 
     @property
     def name(self):
@@ -100,9 +107,14 @@ class Medium:
         """True for a birefringent medium (uniaxial material with an optic axis)."""
         return self.optic_axis is not None and getattr(self.material, "kind", "uniaxial") != "isotropic"
 
-    def indices(self, wavelength_um):
-        """(n_o, n_e) at the given wavelengths (µm); equal for isotropic media."""
-        return self.material.indices(wavelength_um, self.temperature_c)
+    def indices(self, wavelength_um, temperature_c=None):
+        """(n_o, n_e) at the given wavelengths (µm); equal for isotropic media.
+
+        `temperature_c` (°C, broadcasting against the wavelengths) overrides the medium's own;
+        the tracer passes per-sample temperatures flattened like the rays.
+        """
+        t = self.temperature_c if temperature_c is None else temperature_c
+        return self.material.indices(wavelength_um, t)
 
 
 @dataclass(frozen=True)
@@ -138,8 +150,9 @@ class RectangularAperture:
     def contains(self, points_mm, surface):
         n = surface.normal
         w = np.asarray(self.width_direction, dtype=float)
-        w = w - dot(w, n) * n
-        w = w / np.sqrt(dot(w, w))
+        # Per-ray normals (perturbed surfaces) project the width direction ray by ray.
+        w = w - dot(w, n)[..., None] * n
+        w = w / np.sqrt(dot(w, w))[..., None]
         h = cross(n, w)
         offset = points_mm - surface.point_mm
         return ((np.abs(dot(offset, w)) <= self.half_width_mm * (1 + 1e-12))
@@ -152,10 +165,12 @@ class Surface:
 
     Parameters
     ----------
-    point_mm : array_like, shape (3,)
+    point_mm : array_like, shape (3,) or (..., 3)
         A point on the plane (mm).
-    normal : array_like, shape (3,)
-        Plane normal (normalised here; its sign does not matter).
+    normal : array_like, shape (3,) or (..., 3)
+        Plane normal (normalised here; its sign does not matter). Point and normal may carry
+        leading sample axes (perturbed prisms, Monte Carlo) that broadcast against the rays,
+        exactly as optic axes do; the aperture stays one for all samples.
     aperture : CircularAperture or RectangularAperture, optional
         Rays meeting the plane outside it are flagged, not dropped.
     layer : ThinLayer, optional
@@ -177,8 +192,9 @@ class Surface:
 
     def __post_init__(self):
         point = np.asarray(self.point_mm, dtype=float)
-        if point.shape != (3,) or not np.all(np.isfinite(point)):
-            raise ValueError(f"surface point_mm must be three finite numbers, got {self.point_mm!r}")
+        if point.ndim == 0 or point.shape[-1] != 3 or not np.all(np.isfinite(point)):
+            raise ValueError(f"surface point_mm must be three finite numbers (last axis), got "
+                             f"{self.point_mm!r}")
         object.__setattr__(self, "point_mm", point)
         object.__setattr__(self, "normal", as_unit_vectors(self.normal, "surface normal"))
 

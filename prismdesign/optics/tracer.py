@@ -196,6 +196,34 @@ def _axis_array(medium, shape):
     return np.broadcast_to(axis, tuple(shape) + (3,)).reshape(-1, 3)
 
 
+def _flat_vectors(vectors, shape):
+    """3-vectors (3,) or with leading sample axes, broadcast to the bundle shape and flattened;
+    a single vector stays (3,) (cheaper, and broadcasts the same)."""
+    vectors = np.asarray(vectors, dtype=float)
+    if vectors.ndim == 1:
+        return vectors
+    return np.broadcast_to(vectors, tuple(shape) + (3,)).reshape(-1, 3)
+
+
+class _FlatSurface:
+    """A surface's point and normal flattened like the rays (for intersection and apertures)."""
+
+    __slots__ = ("point_mm", "normal", "aperture")
+
+    def __init__(self, surface, shape):
+        self.point_mm = _flat_vectors(surface.point_mm, shape)
+        self.normal = _flat_vectors(surface.normal, shape)
+        self.aperture = surface.aperture
+
+
+def _medium_indices(medium, wavelength, shape):
+    """(n_o, n_e) of a medium on the flat rays; per-sample temperatures flattened like them."""
+    t = medium.temperature_c
+    if t is None or np.ndim(t) == 0:
+        return medium.indices(wavelength)
+    return medium.indices(wavelength, np.broadcast_to(t, tuple(shape)).reshape(-1))
+
+
 class _Branch:
     """Working state of one branch during a trace (flat ray axis)."""
 
@@ -212,7 +240,9 @@ class _Branch:
 
 
 def _intersect(branch, surface):
-    """Move a branch to a plane along its ray direction; returns the new branch state."""
+    """Move a branch to a plane along its ray direction; returns the new branch state.
+
+    `surface` is a :class:`_FlatSurface` (point and normal flattened like the rays)."""
     s = branch.rays[-1]
     r = branch.points[-1]
     denom = dot(s, surface.normal)
@@ -309,10 +339,14 @@ def trace(system, position_mm, direction, wavelength_um, polarisation=(1.0, 0.0)
     crystals = [m for m in system.media if m.is_crystal]
     crystals += [s.reflect_from for s in system.surfaces
                  if s.reflect_from is not None and s.reflect_from.is_crystal]
+    # Leading sample axes of axes, temperatures, surface points and normals (perturbed prisms)
+    # broadcast against the rays.
+    extra = [np.shape(m.optic_axis)[:-1] for m in crystals]
+    extra += [np.shape(m.temperature_c) for m in system.media]
+    extra += [np.shape(v)[:-1] for s in system.surfaces for v in (s.point_mm, s.normal)]
     position, direction, wavelength, jones, shape, pair = _prepare_input(
-        position_mm, direction, wavelength_um, polarisation,
-        [np.shape(m.optic_axis)[:-1] for m in crystals])
-    media_indices = [m.indices(wavelength) for m in system.media]
+        position_mm, direction, wavelength_um, polarisation, extra)
+    media_indices = [_medium_indices(m, wavelength, shape) for m in system.media]
     axes = [_axis_array(m, shape) for m in system.media]
     n0 = media_indices[0][0]
     x_p, y_p = transverse_basis(direction)
@@ -337,26 +371,27 @@ def trace(system, position_mm, direction, wavelength_um, polarisation=(1.0, 0.0)
             layer = (n_layer, wavelength, surface.layer.thickness_mm)
             layer_treatments[surface.label or f"surface {i}"] = surface.layer.description
         mirror = surface.reflect_from is not None
+        flat_surface = _FlatSurface(surface, shape)
         if mirror:
-            far_indices = surface.reflect_from.indices(wavelength)
+            far_indices = _medium_indices(surface.reflect_from, wavelength, shape)
             far_axis = _axis_array(surface.reflect_from, shape)
         else:
             far_indices, far_axis = media_indices[i + 1], axes[i + 1]
         new_branches = []
         for branch in branches:
-            point, path, flags = _intersect(branch, surface)
+            point, path, flags = _intersect(branch, flat_surface)
             if layer is None:
-                res = solve_interface(branch.k, branch.field, surface.normal, media_indices[i],
-                                      axes[i], far_indices, far_axis)
+                res = solve_interface(branch.k, branch.field, flat_surface.normal,
+                                      media_indices[i], axes[i], far_indices, far_axis)
             else:
                 res, incoherent = solve_layered_interface(
-                    branch.k, branch.field, surface.normal, media_indices[i], axes[i],
+                    branch.k, branch.field, flat_surface.normal, media_indices[i], axes[i],
                     far_indices, far_axis, surface.layer, layer[0], wavelength)
                 flags = flags | np.where(incoherent, TraceFlag.INCOHERENT_LAYER, 0)
             flags = flags | np.where(res.singular, TraceFlag.SINGULAR, 0)
             tunnelled = 0
             if layer is not None and not mirror:
-                k_n = dot(branch.k, surface.normal)
+                k_n = dot(branch.k, flat_surface.normal)
                 tunnelled = np.where(dot(branch.k, branch.k) - k_n * k_n > layer[0] ** 2,
                                      TraceFlag.FRUSTRATED_TOTAL_REFLECTION, 0)
             amplitude = (np.exp(1j * np.angle(res.coefficient))

@@ -133,7 +133,8 @@ class Boundary:
     def __post_init__(self):
         object.__setattr__(self, "point_mm", np.asarray(self.point_mm, dtype=float))
         n = as_unit_vectors(self.normal, "boundary normal")
-        object.__setattr__(self, "normal", n if n[2] >= 0 else -n)
+        # Per-sample normals (perturbed prisms) are oriented one by one.
+        object.__setattr__(self, "normal", np.where(n[..., 2:3] >= 0, n, -n))
 
 
 def ideal_antireflection_layer(n_outside, n_inside, wavelength_um):
@@ -200,6 +201,10 @@ class Prism:
     rotation_deg : float
         Turn of the prism about z from its built orientation (set by :meth:`rotated`); the
         clear aperture turns with it.
+    temperature_c : float or ndarray, optional
+        Temperature of the pieces (°C; the surroundings stay at their data temperature); None
+        means each material's data temperature. An array carries leading sample axes
+        (perturbed prisms), as may the optic axes and boundary points and normals.
     """
 
     kind: str
@@ -211,6 +216,7 @@ class Prism:
     surround: object = None
     parameters: dict = field(default_factory=dict)
     rotation_deg: float = 0.0
+    temperature_c: object = None
 
     def __post_init__(self):
         object.__setattr__(self, "pieces", tuple(self.pieces))
@@ -267,7 +273,7 @@ class Prism:
         # Row vectors times rotᵀ: also turns axes that carry leading (Monte Carlo) sample axes.
         pieces = [replace(p, optic_axis=None if p.optic_axis is None else p.optic_axis @ rot.T)
                   for p in self.pieces]
-        boundaries = [replace(b, point_mm=rot @ b.point_mm, normal=rot @ b.normal)
+        boundaries = [replace(b, point_mm=b.point_mm @ rot.T, normal=b.normal @ rot.T)
                       for b in self.boundaries]
         return replace(self, pieces=pieces, boundaries=boundaries,
                        rotation_deg=self.rotation_deg + float(angle_deg))
@@ -299,7 +305,8 @@ class Prism:
     def media(self):
         """Media in order: surroundings, each piece, surroundings."""
         outside = Medium(self.surround)
-        return [outside] + [Medium(p.material, p.optic_axis if p.is_crystal else None)
+        return [outside] + [Medium(p.material, p.optic_axis if p.is_crystal else None,
+                                   self.temperature_c)
                             for p in self.pieces] + [outside]
 
     def system(self):
@@ -313,15 +320,18 @@ class Prism:
                 if i not in (0, len(self.boundaries) - 1):
                     raise ValueError(f"boundary {i} is internal: only outer faces take an "
                                      f"antireflection coating")
+                # Coatings are made once, for the data temperature of the nominal prism.
                 inside = media[1] if i == 0 else media[-2]
-                n_in = float(inside.indices(lam)[0])
+                n_in = float(inside.material.indices(lam)[0])
                 n_out = float(media[0].indices(lam)[0])
                 layer = ideal_antireflection_layer(n_out, n_in, lam)
             # The aperture's width runs along the prism's own x axis (turned with the prism),
             # projected into the face; a face tilted by t is 1/cos t wider than the aperture.
             a = np.deg2rad(self.rotation_deg)
             width_dir = np.array([np.cos(a), np.sin(a), 0.0])
-            in_face = width_dir - np.dot(width_dir, b.normal) * b.normal
+            # A perturbed boundary (per-sample normals) keeps the aperture of its mean normal.
+            normal = b.normal if b.normal.ndim == 1 else _mean_direction(b.normal)
+            in_face = width_dir - np.dot(width_dir, normal) * normal
             stretch = 1.0 / max(np.linalg.norm(in_face), 1e-6)
             aperture = RectangularAperture(0.5 * self.width_mm * stretch * (1.0 + 1e-9),
                                            0.5 * self.height_mm, width_direction=tuple(in_face))
@@ -356,6 +366,12 @@ class Prism:
         return trace_from_front(self.system(), wavelength_um, in_plane_deg, out_of_plane_deg,
                                 offset_mm, polarisation, keep_reflections=keep_reflections,
                                 power_threshold=power_threshold)
+
+
+def _mean_direction(vectors):
+    """Unit mean of unit vectors with leading sample axes, shape (3,)."""
+    mean = np.asarray(vectors, dtype=float).reshape(-1, 3).mean(axis=0)
+    return mean / np.linalg.norm(mean)
 
 
 def check_prism(value, name="prism"):

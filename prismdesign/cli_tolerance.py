@@ -1,0 +1,233 @@
+"""The ``prismdesign tolerance`` and ``prismdesign fit-built`` verbs.
+
+``tolerance``: which errors matter for a prism against a requirement (ranked sensitivities),
+the yield of built prisms (Monte Carlo) and, when asked, the loosest tolerances for a target
+yield. ``fit-built``: what a built prism actually is, fitted to a CSV of measurements. Thin
+shells over :mod:`prismdesign.design`; they print text (or JSON) and the laser caution once.
+"""
+from __future__ import annotations
+
+import argparse
+import csv
+import io
+import json
+from pathlib import Path
+
+import numpy as np
+
+from . import prisms
+from .cli_design import _FIELDS, _requirement
+from .design.perturbation import parameter
+from .design import (DISTRIBUTIONS, Tolerance, ToleranceSet, allocate, fit_as_built,
+                     monte_carlo, read_measurements, sensitivities)
+from .output.demo_materials import LASER_CAUTION
+
+__all__ = ["add_tolerance_parsers"]
+
+#: Prism types these verbs build from one size value (wedge / cut angle or thickness).
+BUILDERS = {"wollaston": prisms.wollaston, "rochon": prisms.rochon,
+            "senarmont": prisms.senarmont, "glan_air_spaced": prisms.glan_air_spaced,
+            "glan_cemented": prisms.glan_cemented, "savart_plate": prisms.savart_plate,
+            "walkoff_displacer": prisms.walkoff_displacer}
+
+TOLERANCE_EXAMPLES = """examples:
+  prismdesign tolerance --type wollaston --crystal calcite --size 15 --lines 0.6328 \\
+      --split-deg 5.245 --tolerance 0.02 --error face1_angle_deg uniform 0.05 \\
+      --error piece0_axis_azimuth_deg uniform 0.5 3 --samples 5000 --target-yield 0.95
+  prismdesign tolerance --type wollaston --crystal yvo4 --size 10 --band 0.5 0.7 \\
+      --split-deg 4.5 --error face1_angle_deg normal 0.02 --json
+
+Error names: piece<i>_axis_polar_deg, piece<i>_axis_azimuth_deg, face<j>_angle_deg,
+face<j>_pyramid_deg, piece<i>_length_mm, incidence_in_plane_deg, incidence_out_of_plane_deg,
+wavelength_nm, temperature_change_c (faces counted from 0 = entrance).
+"""
+
+FIT_EXAMPLES = """examples:
+  prismdesign fit-built bench.csv --type wollaston --crystal calcite --size 15 \\
+      --fit face1_angle_deg face2_angle_deg
+
+The CSV has a wavelength_um column, optional in_plane_deg / out_of_plane_deg, measured columns
+(split_deg, first_deviation_deg, second_deviation_deg, offset_mm, opd_um) and optional
+sigma_<column> uncertainties; an empty cell means not measured.
+"""
+
+
+def _prism_options(p, aperture=True):
+    p.add_argument("--type", dest="prism_type", required=True, choices=sorted(BUILDERS),
+                   help="prism type")
+    p.add_argument("--crystal", required=True, help="crystal name, e.g. calcite")
+    p.add_argument("--size", type=float, required=True,
+                   help="wedge or cut angle (degrees), or plate thickness / length (mm)")
+    if aperture:  # the tolerance verb takes it from the requirement's --aperture-mm
+        p.add_argument("--aperture-mm", dest="prism_aperture_mm", type=float, default=10.0,
+                       help="clear aperture, square (mm, default 10)")
+
+
+def add_tolerance_parsers(sub):
+    """Add the ``tolerance`` and ``fit-built`` verbs to the sub-command parsers `sub`."""
+    p = sub.add_parser(
+        "tolerance", help="which fabrication errors matter, yield, and tolerance allocation",
+        description="Rank the errors of a prism by how much they move its target figure, run "
+                    "a Monte Carlo of built prisms against the requirement, and optionally "
+                    "find the loosest tolerances that keep a target yield.",
+        epilog=TOLERANCE_EXAMPLES, formatter_class=argparse.RawDescriptionHelpFormatter)
+    _prism_options(p, aperture=False)
+    p.add_argument("--band", nargs=2, type=float, metavar=("FROM_UM", "TO_UM"),
+                   help="wavelength band (um)")
+    p.add_argument("--lines", nargs="+", type=float, metavar="UM", help="laser lines (um)")
+    for option, field, kind, text in _FIELDS:
+        p.add_argument(option, dest=field, type=kind, default=None, help=text)
+    p.add_argument("--polariser", action="store_true", default=None,
+                   help="target: a polariser (Glan types)")
+    p.add_argument("--error", nargs="+", action="append", default=[],
+                   metavar="NAME DISTRIBUTION SIZE [COST]",
+                   help=f"a tolerance: error name, distribution ({', '.join(DISTRIBUTIONS)}), "
+                        f"size (sigma, +-limit or fixed value) and optional relative cost weight")
+    p.add_argument("--samples", type=int, default=5000, help="built prisms drawn (default 5000)")
+    p.add_argument("--seed", type=int, default=0, help="random seed (default 0)")
+    p.add_argument("--target-yield", type=float, default=None,
+                   help="also allocate the loosest tolerances for this yield (e.g. 0.95)")
+    p.add_argument("--plots", metavar="DIR", help="write tornado and histogram PNGs here")
+    p.add_argument("--json", action="store_true", help="print the results as JSON")
+    p.add_argument("--csv", metavar="FILE", help="write the tolerance table as CSV")
+    p.set_defaults(run=_tolerance_command, undeviated_polarisation=None, crystals=None,
+                   prism_types=None, band_norm=None, requirement_file=None)
+
+    p = sub.add_parser(
+        "fit-built", help="fit a built prism's errors to measurements (CSV)",
+        description="Infer the errors of a built prism (face angles, axis errors, ...) from "
+                    "measured splits, deviations, offsets or path differences by least "
+                    "squares, with uncertainties and correlations.",
+        epilog=FIT_EXAMPLES, formatter_class=argparse.RawDescriptionHelpFormatter)
+    p.add_argument("measurements", metavar="CSV", help="measurements file")
+    _prism_options(p)
+    p.add_argument("--fit", nargs="+", required=True, metavar="NAME",
+                   help="error parameters to fit")
+    p.add_argument("--json", action="store_true", help="print the fit as JSON")
+    p.set_defaults(run=_fit_command)
+
+
+def _build(args, aperture_mm=None):
+    a = args.prism_aperture_mm if aperture_mm is None else aperture_mm
+    if not (np.isfinite(a) and a > 0):
+        raise ValueError(f"--aperture-mm must be a positive size in mm, got {a:g}")
+    return BUILDERS[args.prism_type](args.crystal, args.size, width_mm=a, height_mm=a)
+
+
+def _tolerances(raw):
+    if not raw:
+        raise ValueError("give at least one --error NAME DISTRIBUTION SIZE [COST]")
+    items = []
+    for entry in raw:
+        if len(entry) not in (3, 4):
+            raise ValueError(f"--error takes NAME DISTRIBUTION SIZE [COST], got "
+                             f"{' '.join(entry)!r}")
+        try:
+            numbers = [float(v) for v in entry[2:]]
+        except ValueError:
+            raise ValueError(f"--error {' '.join(entry)}: SIZE and COST must be numbers") \
+                from None
+        items.append(Tolerance(entry[0], entry[1], numbers[0],
+                               cost_weight=numbers[1] if len(numbers) > 1 else 1.0))
+    return ToleranceSet(tuple(items))
+
+
+def _atomic_write(path, text):
+    path = Path(path)
+    if not path.parent.is_dir():
+        raise ValueError(f"{path}: the folder {path.parent} does not exist")
+    temporary = path.with_name(path.name + ".tmp")
+    temporary.write_text(text, encoding="utf-8")
+    temporary.replace(path)
+
+
+def _tolerance_command(args) -> str:
+    if args.samples < 1:
+        raise ValueError(f"--samples must be >= 1, got {args.samples}")
+    requirement = _requirement(args)
+    prism = _build(args, requirement.clear_aperture_mm)
+    tolerances = _tolerances(args.error)
+    for t in tolerances.items:
+        parameter(prism, t.name)  # one-line error naming the allowed errors of this prism
+    sens = sensitivities(prism, requirement, tolerances.names)
+    figure = {"split": "split_deg", "separation": "separation_mm", "offset": "offset_mm",
+              "shear": "offset_mm", "polariser": "leakage"}[requirement.target_kind]
+    ranked = sens.ranked(figure, tolerances)
+    mc = monte_carlo(prism, requirement, tolerances, args.samples, seed=args.seed)
+    allocation = None
+    if args.target_yield is not None:
+        allocation = allocate(prism, requirement, tolerances, args.target_yield,
+                              samples=min(args.samples, 4000), seed=args.seed)
+    rows = [dict(parameter=t.name, distribution=t.distribution, size=t.size,
+                 cost=t.cost, **({"allocated": a.size, "allocated_cost": a.cost}
+                                 if allocation else {}))
+            for t, a in zip(tolerances.items,
+                            allocation.allocated.items if allocation else tolerances.items)]
+    if args.csv:
+        buffer = io.StringIO()
+        writer = csv.DictWriter(buffer, fieldnames=list(rows[0]))
+        writer.writeheader()
+        writer.writerows(rows)
+        _atomic_write(args.csv, buffer.getvalue())
+    if args.plots:
+        from .output.tolerance_plots import plot_histogram, plot_tornado
+        folder = Path(args.plots)
+        folder.mkdir(parents=True, exist_ok=True)
+        plot_tornado(ranked, folder / "tornado.png")
+        if mc.target_figure is not None:
+            plot_histogram(mc, folder / "histogram.png", target=requirement.target_value,
+                           tolerance=requirement.target_tolerance)
+    if args.json:
+        return json.dumps(dict(sensitivities=ranked, yield_fraction=mc.yield_fraction,
+                               yield_error=mc.yield_error, samples=mc.samples, seed=args.seed,
+                               worst_sample=mc.worst_sample(), drivers=mc.failure_drivers(),
+                               tolerances=rows,
+                               allocation=None if allocation is None else dict(
+                                   message=allocation.message,
+                                   check_yield=allocation.check_yield),
+                               caution=LASER_CAUTION), indent=2)
+    unit = ranked[0]["figure_unit"] if ranked else ""
+    lines = [f"What moves the {figure} of this {prism.kind} ({args.crystal}, {args.size:g}):",
+             f"  {'error':30s} {'per unit':>12s} {'tolerance':>10s} {'swing ' + unit:>12s}"]
+    for r in ranked:
+        lines.append(f"  {r['parameter']:30s} {r['sensitivity']:+12.4g} {r['tolerance']:10.3g} "
+                     f"{r['swing']:12.4g}")
+    lines += ["", f"Monte Carlo: {mc.samples} built prisms (seed {args.seed}): yield "
+                  f"{100 * mc.yield_fraction:.2f} % ± {100 * mc.yield_error:.2f} %"]
+    worst = mc.worst_sample()
+    lines.append("  worst sample: " + ", ".join(f"{k} {v:+.3g}" for k, v in
+                                                  worst["errors"].items()))
+    lines.append("  failure drivers (rank correlation of |error| with the worst margin): "
+                 + ", ".join(f"{d['parameter']} {d['rank_correlation']:+.2f}"
+                             for d in mc.failure_drivers()))
+    if allocation is not None:
+        lines += ["", f"Allocation for yield >= {args.target_yield:g}: {allocation.message}",
+                  f"  {'error':30s} {'distribution':>12s} {'start':>10s} {'allocated':>10s} "
+                  f"{'cost':>8s}"]
+        for row in allocation.table():
+            lines.append(f"  {row['parameter']:30s} {row['distribution']:>12s} "
+                         f"{row['start']:10.3g} {row['allocated']:10.3g} {row['cost']:8.3g}")
+        lines.append(f"  check on fresh samples: yield {100 * allocation.check_yield:.2f} % ± "
+                     f"{100 * allocation.check_error:.2f} %")
+    if args.csv:
+        lines.append(f"wrote {args.csv}")
+    if args.plots:
+        lines.append(f"figures in {args.plots}")
+    lines += ["", LASER_CAUTION]
+    return "\n".join(lines)
+
+
+def _fit_command(args) -> str:
+    prism = _build(args)
+    data = read_measurements(args.measurements)
+    fit = fit_as_built(prism, data, args.fit)
+    if args.json:
+        table = [{k: (None if isinstance(v, float) and not np.isfinite(v) else v)
+                  for k, v in row.items()} for row in fit.table()]
+        return json.dumps(dict(parameters=table, reduced_chi_square=fit.reduced_chi_square,
+                               correlation=np.where(np.isfinite(fit.correlation),
+                                                    fit.correlation, None).tolist(),
+                               residuals=fit.residuals.tolist(), undetermined=list(fit.undetermined),
+                               evaluations=fit.evaluations, message=fit.message,
+                               caution=LASER_CAUTION), indent=2, default=float)
+    return fit.report() + "\n\n" + LASER_CAUTION

@@ -1,0 +1,48 @@
+"""The 'tolerance' and 'fit-built' verbs: output, JSON, exit codes, one-line errors."""
+import json
+
+import numpy as np
+
+from prismdesign.cli import main
+
+PRISM = ["tolerance", "--type", "wollaston", "--crystal", "calcite", "--size", "15",
+         "--lines", "0.6328", "--split-deg", "5.245", "--tolerance", "0.02", "--samples", "400"]
+BASE = PRISM + ["--error", "face1_angle_deg", "uniform", "0.05"]
+
+
+def test_tolerance_text_json_and_csv(capsys, tmp_path):
+    table = tmp_path / "table.csv"
+    assert main(BASE + ["--csv", str(table)]) == 0
+    out = capsys.readouterr().out
+    assert "face1_angle_deg" in out and "yield" in out and out.count("IEC 60825-1") == 1
+    assert table.read_text().startswith("parameter,distribution,size")
+    assert main(BASE + ["--json"]) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert 0 <= data["yield_fraction"] <= 1 and data["sensitivities"][0]["parameter"] == \
+        "face1_angle_deg"
+
+
+def test_tolerance_bad_input_exits_2(capsys):
+    assert main(PRISM + ["--error", "face7_angle_deg", "uniform", "0.05"]) == 2
+    err = capsys.readouterr().err
+    assert "face7_angle_deg" in err and len(err.strip().splitlines()) == 1
+    assert main(PRISM + ["--error", "face1_angle_deg", "wide", "0.05"]) == 2
+
+
+def test_fit_built_from_csv(capsys, tmp_path):
+    import prismdesign as pd
+    from prismdesign.design import apply_errors
+    prism = pd.prisms.wollaston("calcite", 15.0)
+    built, _ = apply_errors(prism, {"face1_angle_deg": 0.04})
+    lam = np.array([0.45, 0.6328, 0.98])
+    split = pd.analysis.split(built, lam).split_deg
+    path = tmp_path / "bench.csv"
+    path.write_text("wavelength_um,split_deg\n" + "".join(f"{float(l)!r},{float(s)!r}\n" for l, s in
+                                                        zip(lam, split)), encoding="utf-8")
+    code = main(["fit-built", str(path), "--type", "wollaston", "--crystal", "calcite",
+                 "--size", "15", "--fit", "face1_angle_deg", "--json"])
+    assert code == 0
+    data = json.loads(capsys.readouterr().out)
+    assert abs(data["parameters"][0]["value"] - 0.04) < 1e-8
+    assert main(["fit-built", str(tmp_path / "missing.csv"), "--type", "wollaston",
+                 "--crystal", "calcite", "--size", "15", "--fit", "face1_angle_deg"]) == 2
