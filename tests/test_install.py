@@ -70,6 +70,10 @@ def test_wheel_install_runs_materials_from_another_directory(tmp_path):
     listing = subprocess.run([str(venv / "bin" / "prismdesign"), "materials"], cwd=elsewhere,
                              capture_output=True, text=True, timeout=120)
     assert listing.returncode == 0, listing.stderr
-    names = {line.split()[0] for line in listing.stdout.splitlines()[2:]}
+    rows = [line.split() for line in listing.stdout.splitlines()[2:]
+            if line.strip() and not line.startswith("*")]
+    # one row per dataset file: <name>.toml or <name>.<dataset>.toml
+    listed = {(row[0], row[1].rstrip("*")) for row in rows}
     shipped = {p.stem for p in (REPO / "dispersion_data").glob("*.toml")}
-    assert names == shipped and "calcite" in names
+    assert {f"{name}.{dataset}" if f"{name}.{dataset}" in shipped else name
+            for name, dataset in listed} == shipped and ("calcite", "ghosh-1999") in listed

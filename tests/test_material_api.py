@@ -243,7 +243,8 @@ def test_library_rejects_name_file_mismatch_and_duplicates(tmp_path):
 
 
 def test_public_names_exported():
-    for name in ("material", "materials", "load_material", "save_material", "fit_dispersion",
+    for name in ("material", "materials", "material_datasets", "load_material", "save_material",
+                 "fit_dispersion",
                  "IsotropicMaterial", "UniaxialMaterial", "DispersionRangeWarning",
                  "UnknownMaterialError"):
         assert hasattr(prismdesign, name)

@@ -251,7 +251,8 @@ def test_band_beyond_the_model_names_the_data_range(capsys):
     code, _, err = run(capsys, "index", "calcite", "--band", "0.1", "1.0")
     item = pd.material("calcite")
     assert code == 2 and len(err.strip().splitlines()) == 1
-    assert f"data cover {item.validity_um[0]:g}-{item.validity_um[1]:g} um" in err
+    assert f"data {item.validity_um[0]:g}-{item.validity_um[1]:g} µm" in err
+    assert "wavelength_um = 0.1 lies outside its transparency window" in err
 
 
 def test_demo_out_must_be_a_folder(capsys, tmp_path):

@@ -23,8 +23,8 @@ import tomli_w
 
 from .schema import material_from_dict, material_to_dict
 
-__all__ = ["MaterialLibrary", "UnknownMaterialError", "load_material", "material", "material_datasets",
-           "materials", "save_material"]
+__all__ = ["MaterialLibrary", "UnknownMaterialError", "load_material", "material",
+           "material_datasets", "materials", "save_material"]
 
 
 class UnknownMaterialError(LookupError):

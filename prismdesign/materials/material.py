@@ -263,7 +263,7 @@ class _MaterialBase:
                          f"{self.validity_um[1]:g} µm, {self._source()})")
 
     def _check_physical(self, model, lam, n):
-        """Refuse an index a dispersion formula gives but no material has (n ≤ 1 or not finite)."""
+        """Refuse an index a formula gives but no material has (n ≤ 1 or not finite)."""
         n = np.asarray(n, dtype=float)
         bad = _unphysical(model, n)
         if np.any(bad):
