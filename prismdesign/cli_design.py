@@ -95,13 +95,13 @@ def _requirement(args):
         values["lines_um"] = tuple(args.lines)
         values.pop("band_um", None)
     for _, field, _, _ in _FIELDS:
-        if getattr(args, field) is not None:
+        if getattr(args, field, None) is not None:
             values[field] = getattr(args, field)
             if field == "split_mrad":
                 values.pop("split_deg", None)
     for field in ("polariser", "coated", "undeviated_polarisation", "crystals", "prism_types",
                   "band_norm"):
-        if getattr(args, field) is not None:
+        if getattr(args, field, None) is not None:
             values[field] = getattr(args, field)
     if "band_um" not in values and "lines_um" not in values:
         raise ValueError("give the wavelengths: --band FROM_UM TO_UM or --lines UM ..., or a "

@@ -59,7 +59,7 @@ def test_batch_of_perturbed_prisms_equals_single_traces(kind):
 
 
 def test_batch_temperatures_equal_single_temperatures():
-    prism = pd.prisms.wollaston("yvo4", 10.0)
+    prism = pd.prisms.wollaston(pd.material("yvo4", dataset="shi-2001"), 10.0)
     t = np.array([22.0, 35.0, 48.0])
     batch, _ = apply_errors(prism, {"temperature_change_c": t - 20.0}, ray_ndim=1)
     together = batch.trace([0.6328, 1.064])
@@ -249,7 +249,7 @@ def test_allocation_with_one_dominant_parameter(wollaston):
 
 # ---------------------------------------------------------------- temperature
 def test_temperature_sweep_slope_equals_closed_form():
-    prism = pd.prisms.wollaston("yvo4", 10.0)
+    prism = pd.prisms.wollaston(pd.material("yvo4", dataset="shi-2001"), 10.0)
     req = _requirement(prism)
     sweep = temperature_sweep(prism, req, [25.0, 45.0])
     slope = (sweep.split_deg[1, 0] - sweep.split_deg[0, 0]) / 20.0
