@@ -73,6 +73,11 @@ def add_design_parser(sub):
     p.add_argument("--undeviated", dest="undeviated_polarisation",
                    choices=("in_plane", "across"), help="Rochon types: polarisation of the "
                                                          "undeviated beam")
+    p.add_argument("--field-goal", dest="field_goal", choices=("symmetric", "widest"),
+                   help="polarisers: widest symmetric field (default) or widest total field")
+    p.add_argument("--temperature-range", dest="temperature_range_c", nargs=2, type=float,
+                   metavar=("FROM_C", "TO_C"),
+                   help="hold a split target over this temperature range (needs dn/dT data)")
     p.add_argument("--crystals", nargs="+", metavar="NAME", help="allowed crystals")
     p.add_argument("--types", dest="prism_types", nargs="+", metavar="TYPE",
                    help=f"allowed prism types: {', '.join(FAMILIES)}")
@@ -100,7 +105,7 @@ def _requirement(args):
             if field == "split_mrad":
                 values.pop("split_deg", None)
     for field in ("polariser", "coated", "undeviated_polarisation", "crystals", "prism_types",
-                  "band_norm"):
+                  "band_norm", "field_goal", "temperature_range_c"):
         if getattr(args, field, None) is not None:
             values[field] = getattr(args, field)
     if "band_um" not in values and "lines_um" not in values:

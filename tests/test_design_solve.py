@@ -182,6 +182,50 @@ def test_glan_cut_gives_a_symmetric_field_from_critical_angles():
     assert 3.0 < half < 5.0   # Feussner's ~8° total field of an air-spaced calcite Glan
 
 
+def test_glan_widest_field_is_at_least_the_symmetric_one():
+    """The widest-total goal can only widen the in-plane field; its edges sit where the o and e
+    critical angles (Born & Wolf §1.5.4) equal the cut."""
+    fields = {}
+    for goal in ("symmetric", "widest"):
+        requirement = design.Requirement(lines_um=[0.5893], polariser=True,
+                                         field_half_angle_deg=1.0, field_goal=goal)
+        cut = design.solve("glan_air_spaced", "calcite", requirement).parameters["cut_angle_deg"]
+        plus = optimize.brentq(lambda a: pd.prisms.glan_cut_angle_limits(
+            "calcite", 0.5893, "air", "x", in_plane_deg=a)[0] - cut, -30.0, 30.0)
+        minus = optimize.brentq(lambda a: pd.prisms.glan_cut_angle_limits(
+            "calcite", 0.5893, "air", "x", in_plane_deg=a)[1] - cut, -30.0, 30.0)
+        fields[goal] = (minus, plus)
+    total = {goal: b - a for goal, (a, b) in fields.items()}
+    assert total["widest"] >= total["symmetric"] - 1e-6
+    assert fields["symmetric"][0] == pytest.approx(-fields["symmetric"][1], abs=1e-6)
+
+
+def test_split_over_temperature_against_snell_with_linear_dn_dt():
+    """The temperature margin's worst split equals Snell's law twice (Born & Wolf §1.5.1) with
+    the indices shifted by the data's linear dn/dT (Shi et al. 2001 YVO4 slopes) at an end of
+    the range; a crystal without dn/dT makes the requirement undecidable (missed, with why)."""
+    yvo4 = pd.material("yvo4", dataset="shi-2001")
+    lam, low, high = 1.064, 20.0, 50.0
+    prism = pd.prisms.wollaston(yvo4, 8.0)
+    requirement = design.Requirement(lines_um=[lam], split_deg=5.0, tolerance=1.0,
+                                     temperature_range_c=(low, high))
+    margin = next(m for m in design.assess(prism, requirement).margins
+                  if m.name == "split over temperature")
+    n_air = pd.material("air").n(lam)
+    splits = []
+    for t in (low, 0.5 * (low + high), high):
+        n_o, n_e = yvo4.indices(lam, t)
+        a = wollaston_exit_angle_rad(n_e, n_o, np.deg2rad(8.0), n_air)
+        b = wollaston_exit_angle_rad(n_o, n_e, np.deg2rad(8.0), n_air)
+        splits.append(np.rad2deg(abs(a - b)))
+    worst = max(splits, key=lambda s: abs(s - 5.0))
+    assert margin.achieved == pytest.approx(worst, abs=1e-9)
+    assert margin.margin == pytest.approx(1.0 - abs(worst - 5.0), abs=1e-9)
+    calcite = design.assess(pd.prisms.wollaston("calcite", 8.0), requirement)
+    undecided = next(m for m in calcite.margins if m.name == "split over temperature")
+    assert not undecided.met and "no thermo-optic data" in undecided.reason
+
+
 # ----------------------------------------------------------------- impossible and bad input
 def test_split_beyond_total_reflection_is_refused_with_the_reason():
     requirement = design.Requirement(lines_um=[0.6328], split_deg=70.0)

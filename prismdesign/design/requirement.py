@@ -16,7 +16,8 @@ import numpy as np
 
 from .._display import shown
 
-__all__ = ["Requirement", "requirement_from_mapping", "load_requirement", "BAND_NORMS", "TARGET_KINDS",
+__all__ = ["Requirement", "requirement_from_mapping", "load_requirement", "BAND_NORMS", "FIELD_GOALS",
+           "TARGET_KINDS",
            "UNDEVIATED_POLARISATIONS"]
 
 #: How a figure that varies over the band is reduced to one number when solving: the mean
@@ -26,6 +27,10 @@ BAND_NORMS = ("mean", "minimax", "rms")
 
 #: The kinds of target a requirement can carry (exactly one per requirement).
 TARGET_KINDS = ("split", "separation", "offset", "shear", "polariser")
+
+#: What a polariser's cut angle is chosen for: the widest in-plane field that is symmetric
+#: about the input direction, or the widest total field (its centre may lie off axis).
+FIELD_GOALS = ("symmetric", "widest")
 
 #: Polarisation of the beam that leaves undeviated (Rochon-type prisms): in the principal
 #: section (x) or across it (y); None when it does not matter.
@@ -139,6 +144,9 @@ class Requirement:
         Largest allowed length of the prism along the beam (mm).
     field_half_angle_deg : float, optional
         Half-angle of the cone of input directions (degrees) over which the limits must hold.
+    field_goal : {"symmetric", "widest"}
+        Polarisers: choose the cut for the widest field symmetric about the input direction
+        (default) or for the widest total field.
     max_leakage : float, optional
         Largest allowed power in unwanted beams, as a fraction of the transmitted power.
     min_transmission : float, optional
@@ -182,6 +190,7 @@ class Requirement:
     aperture_mm: float | None = None
     max_length_mm: float | None = None
     field_half_angle_deg: float | None = None
+    field_goal: str = "symmetric"
     max_leakage: float | None = None
     min_transmission: float | None = None
     temperature_range_c: tuple | None = None
@@ -237,6 +246,9 @@ class Requirement:
             raise ValueError(f"undeviated_polarisation must be one of "
                              f"{', '.join(UNDEVIATED_POLARISATIONS)} or None, got "
                              f"{shown(self.undeviated_polarisation)}")
+        if self.field_goal not in FIELD_GOALS:
+            raise ValueError(f"field_goal must be one of {', '.join(FIELD_GOALS)}, got "
+                             f"{shown(self.field_goal)}")
         if self.band_norm not in BAND_NORMS:
             raise ValueError(f"band_norm must be one of {', '.join(BAND_NORMS)}, got "
                              f"{shown(self.band_norm)}")
@@ -311,7 +323,7 @@ class Requirement:
             value = getattr(self, f.name)
             if value is None or value is False or (f.name == "band_points" and self.band_um is None):
                 continue
-            if f.name in ("m_squared",) and value == 1.0:
+            if (f.name, value) in (("m_squared", 1.0), ("field_goal", "symmetric")):
                 continue
             lines.append(f"{f.name} = {value}")
         return lines

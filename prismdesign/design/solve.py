@@ -32,6 +32,7 @@ from .. import prisms
 from ..materials import material as library_material
 from .families import FAMILIES, Family, design_wavelength_um, family as family_named
 from .merit import assess, figures
+from .perturbation import has_thermo_optic_data
 from .requirement import Requirement
 
 __all__ = ["Design", "solve", "thin_prism_pair"]
@@ -277,12 +278,13 @@ def thin_prism_pair(first, second, wavelength_um, split_deg):
 
 
 def _glan_cut(fam, crystal, requirement):
-    """Cut angle for the widest symmetric in-plane field over the band, from critical angles.
+    """Cut angle for the widest in-plane field over the band, from critical angles.
 
     The o beam must be totally reflected at the gap (cut ≥ θ_o(α)) and the e beam transmitted
-    (cut < θ_e(α)) for every wavelength; both critical angles rise with the in-plane input
-    angle α, so the field is [α₋, α₊] with θ_e(α₋) = cut and θ_o(α₊) = cut, and it is symmetric
-    when max_λ θ_o(a) = min_λ θ_e(−a).
+    (cut < θ_e(α)) at every wavelength; both critical angles rise with the in-plane input
+    angle α, so for a cut c the field is [α₋, α₊] with max_λ θ_o(α₊) = c and
+    min_λ θ_e(α₋) = c (Born & Wolf §1.5.4). The symmetric goal solves α₊ = −α₋ with brentq;
+    the widest goal maximises α₊ − α₋ over c on the same two monotonic curves.
     """
     lam = requirement.wavelengths_um
     air = fam.name == "glan_air_spaced"
@@ -293,28 +295,52 @@ def _glan_cut(fam, crystal, requirement):
     def limits(alpha):
         nonlocal count
         count += 1
-        t_o, t_e = prisms.glan_cut_angle_limits(crystal, lam, gap, axis, in_plane_deg=alpha)
+        alpha = np.asarray(alpha, dtype=float)
+        t_o, t_e = prisms.glan_cut_angle_limits(crystal, lam[:, None], gap, axis,
+                                                in_plane_deg=np.atleast_1d(alpha)[None, :])
         t_e = np.where(np.isnan(t_e), 90.0, t_e)
-        return float(np.max(t_o)), float(np.min(t_e))
+        return np.max(t_o, axis=0).reshape(alpha.shape), np.min(t_e, axis=0).reshape(alpha.shape)
 
-    lo0, hi0 = limits(0.0)
+    lo0, hi0 = (float(v) for v in limits(0.0))
     if not np.isfinite(lo0):
         return None, count, (f"the o beam cannot be totally reflected at the {gap} gap (its "
                              f"index is not above the gap's somewhere in the band)")
     if lo0 >= hi0:
         return None, count, (f"no cut angle polarises over the whole band on axis: the o beam "
                              f"needs a cut >= {lo0:.4g}°, the e beam < {hi0:.4g}°")
+    # Both curves on one grid of input angles (one vectorised call), for the field edges.
+    alpha = np.linspace(-40.0, 40.0, 8001)
+    o_curve, e_curve = limits(alpha)
+    usable = np.isfinite(o_curve)
 
-    def asymmetry(a):
-        return limits(a)[0] - limits(-a)[1]
+    def edges(cut):
+        plus = np.interp(cut, o_curve[usable], alpha[usable])
+        minus = np.interp(cut, e_curve, alpha)
+        return minus, plus
 
-    top = 40.0
-    if asymmetry(top) < 0:
-        return limits(top)[0], count, "field wider than ±40° (not refined)"
-    a = optimize.brentq(asymmetry, 0.0, top, xtol=1e-10)
-    cut = limits(a)[0]
-    return cut, count, (f"cut angle for the widest symmetric in-plane field, ±{a:.4g}° over "
-                        f"the band (critical angles, brentq)")
+    if requirement.field_goal == "symmetric":
+        def asymmetry(a):
+            o, _ = limits(a)
+            _, e = limits(-a)
+            return float(o) - float(e)
+        top = 40.0
+        if asymmetry(top) < 0:
+            return float(limits(top)[0]), count, "field wider than ±40° (not refined)"
+        a = optimize.brentq(asymmetry, 0.0, top, xtol=1e-10)
+        cut = float(limits(a)[0])
+        return cut, count, (f"cut angle for the widest symmetric in-plane field, ±{a:.4g}° "
+                            f"over the band (critical angles, brentq)")
+    cuts = np.linspace(lo0, hi0, 2001)[1:-1]
+    minus, plus = edges(cuts)
+    best = int(np.argmax(plus - minus))
+    res = optimize.minimize_scalar(lambda c: -np.subtract(*edges(c)[::-1]),
+                                   bounds=(cuts[max(best - 1, 0)], cuts[min(best + 1, cuts.size - 1)]),
+                                   method="bounded", options={"xatol": 1e-9})
+    cut = float(res.x)
+    low, high = edges(cut)
+    return cut, count, (f"cut angle for the widest in-plane field, {float(low):+.4g}° to "
+                        f"{float(high):+.4g}° (total {float(high - low):.4g}°) over the band "
+                        f"(critical angles)")
 
 
 def _solve_nomarski(model, norm):
@@ -422,9 +448,13 @@ def solve(prism_type, crystal, requirement, *, bounds=None):
     elif fam.crystals == 2:
         t1, t2, _ = thin_prism_pair(crystal[0], crystal[1], requirement.wavelengths_um,
                                     target if kind == "split" else _split_for(requirement))
+        residuals, what = (lambda x: model.target(x) - target), "over the band"
+        if requirement.temperature_range_c is not None and kind == "split" and all(
+                has_thermo_optic_data(library_material(c)) for c in crystal):
+            residuals, what = _over_temperature(model, target), "over the band and temperatures"
         values, method = _solve_two(
-            model, np.array([t1, t2]), lambda x: model.target(x) - target,
-            "split over the band fitted to the target from the thin-prism estimate")
+            model, np.array([t1, t2]), residuals,
+            f"split {what} fitted to the target from the thin-prism estimate")
     elif fam.name == "wollaston_unequal":
         sym = _Model(family_named("wollaston"), crystal, requirement, solve_req,
                      (limits[0][:1], limits[1][:1]))
@@ -471,6 +501,22 @@ def solve(prism_type, crystal, requirement, *, bounds=None):
         message = f"{message} ({model.count} evaluations)"
     return Design(fam.name, crystal, values, prism, assessment, model.count, method if converged
                   else "", message, converged)
+
+
+def _over_temperature(model, target):
+    """Residuals of the split over (temperature, wavelength) for a two-parameter solve."""
+    from .temperature import temperature_sweep
+
+    req = model.requirement
+    temperatures = np.linspace(*req.temperature_range_c, 3)
+
+    def residuals(x):
+        prism, _ = model.figures(x)
+        if prism is None:
+            return np.full(temperatures.size * req.wavelengths_um.size, np.nan)
+        model.count += 1
+        return (temperature_sweep(prism, req, temperatures).split_deg - target).ravel()
+    return residuals
 
 
 def _split_for(requirement):
