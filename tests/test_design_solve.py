@@ -107,6 +107,20 @@ def test_nomarski_puts_the_fringe_plane_where_asked():
     assert solved.parameters["wedge_angle_deg"] == pytest.approx(paraxial, rel=2e-3)
 
 
+def test_nomarski_plane_reaches_an_objective_back_focal_plane():
+    """Given the objective's back-focal-plane depth and the gap to the prism, the solved
+    prism's fringe plane (localisation analysis) lies at the back focal plane: in front of the
+    exit face by the prism's length at the centre + gap + depth (geometry, no source needed)."""
+    lam = 0.55
+    requirement = design.Requirement(lines_um=[lam], split_deg=0.03, tolerance=1e-7,
+                                     objective_bfp_mm=6.0, prism_gap_mm=2.0)
+    solved = design.solve("nomarski", "quartz", requirement)
+    assert solved.meets
+    exit_z = solved.prism.boundaries[-1].point_mm[2]
+    plane = localisation_plane(solved.prism, lam)
+    assert plane.distance_from_exit_mm == pytest.approx(-(exit_z + 2.0 + 6.0), abs=1e-3)
+
+
 def _thin_prism_pair_by_hand(first, second, lam, split_deg):
     """Least squares of 2Δn₁ t₁ + 2Δn₂ t₂ = split over the band written out as its 2×2 normal
     equations (first-order Wollaston split 2(n_e − n_o) tan θ, Hecht §8.4.3, from memory)."""

@@ -120,11 +120,14 @@ def _senarmont(crystal, v, req):
 
 
 def _nomarski(crystal, v, req):
-    distance = req.localisation_distance_mm
-    if distance is None:
-        raise ValueError("a Nomarski design needs localisation_distance_mm (the fringe plane "
-                         "beyond the exit face, mm), got None")
-    return prisms.nomarski(crystal, v["wedge_angle_deg"], localisation_distance_mm=distance,
+    if not req.wants_localisation:
+        raise ValueError("a Nomarski design needs localisation_distance_mm, or objective_bfp_mm "
+                         "with prism_gap_mm, got neither")
+    # The geometry (and so the exit face) does not depend on the axis tilt.
+    exit_z = prisms.nomarski(crystal, v["wedge_angle_deg"], axis_tilt_deg=0.0,
+                             **_size(req)).boundaries[-1].point_mm[2]
+    return prisms.nomarski(crystal, v["wedge_angle_deg"],
+                           localisation_distance_mm=req.wanted_localisation_mm(exit_z),
                            **_size(req))
 
 

@@ -361,8 +361,8 @@ def assess(prism, requirement, *, figs=None, localisation_distance_mm=None):
                               _lost_text(figs, main) if np.isnan(worst) else ""))
     if requirement.temperature_range_c is not None and kind == "split":
         margins.append(_temperature_margin(prism, requirement))
-    if requirement.localisation_distance_mm is not None and localisation_distance_mm is not None:
-        want = requirement.localisation_distance_mm
+    if requirement.wants_localisation and localisation_distance_mm is not None:
+        want = requirement.wanted_localisation_mm(prism.boundaries[-1].point_mm[2])
         tol = max(0.01 * abs(want), 0.1)
         margins.append(Margin("localisation distance", localisation_distance_mm, want,
                               tol - abs(localisation_distance_mm - want), "mm", tol))

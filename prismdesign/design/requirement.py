@@ -126,6 +126,12 @@ class Requirement:
     localisation_distance_mm : float, optional
         Nomarski prisms: wanted distance of the fringe-localisation plane beyond the exit face
         (mm), e.g. to reach a microscope objective's back focal plane.
+    objective_bfp_mm, prism_gap_mm : float, optional
+        Nomarski prisms, instead of `localisation_distance_mm`: depth of a microscope
+        objective's back focal plane below its mounting shoulder (mm) and the air gap from the
+        shoulder to the prism's entrance face (mm). The light comes from the objective, so the
+        fringe plane must lie ``exit_z + prism_gap_mm + objective_bfp_mm`` in front of the exit
+        face (a negative localisation distance).
     bisector_deg : float, optional
         Wanted in-plane angle of the bisector of the two beams from the input direction
         (degrees); 0 centres the split. Unequal-wedge Wollaston designs solve for it.
@@ -182,6 +188,8 @@ class Requirement:
     polariser: bool = False
     tolerance: float | None = None
     localisation_distance_mm: float | None = None
+    objective_bfp_mm: float | None = None
+    prism_gap_mm: float | None = None
     bisector_deg: float | None = None
     undeviated_polarisation: str | None = None
     beam_diameter_mm: float | None = None
@@ -228,6 +236,14 @@ class Requirement:
             put(self, name, _number(name, getattr(self, name), low=0.0))
         for name in ("localisation_distance_mm", "min_clearance_mm"):
             put(self, name, _number(name, getattr(self, name)))
+        for name in ("objective_bfp_mm", "prism_gap_mm"):
+            put(self, name, _number(name, getattr(self, name), low=0.0, low_open=False))
+        if (self.objective_bfp_mm is None) != (self.prism_gap_mm is None):
+            raise ValueError(f"objective_bfp_mm and prism_gap_mm go together, got "
+                             f"{shown(self.objective_bfp_mm)} and {shown(self.prism_gap_mm)}")
+        if self.objective_bfp_mm is not None and self.localisation_distance_mm is not None:
+            raise ValueError("give localisation_distance_mm or objective_bfp_mm with "
+                             "prism_gap_mm, not both")
         put(self, "bisector_deg", _number("bisector_deg", self.bisector_deg, low=-45.0, high=45.0))
         put(self, "m_squared", _number("m_squared", self.m_squared, low=1.0, low_open=False,
                                        optional=False))
@@ -303,6 +319,20 @@ class Requirement:
         if self.target_value is None:
             return None
         return self.tolerance if self.tolerance is not None else 0.01 * self.target_value
+
+    @property
+    def wants_localisation(self):
+        """True when a fringe-localisation plane is asked for (Nomarski designs)."""
+        return self.localisation_distance_mm is not None or self.objective_bfp_mm is not None
+
+    def wanted_localisation_mm(self, exit_z_mm):
+        """Wanted fringe-plane distance beyond the exit face (mm) of a prism whose exit face
+        lies at `exit_z_mm` on axis; None when none is asked for."""
+        if self.localisation_distance_mm is not None:
+            return self.localisation_distance_mm
+        if self.objective_bfp_mm is None:
+            return None
+        return -(float(exit_z_mm) + self.prism_gap_mm + self.objective_bfp_mm)
 
     @property
     def wavelengths_um(self):

@@ -169,7 +169,7 @@ def search(requirement, *, progress=None):
     if unknown:
         raise ValueError(f"prism_types must be among {', '.join(FAMILIES)}, got {unknown[0]!r}")
     types = [t for t in allowed if kind in FAMILIES[t].targets
-             and (t != "nomarski" or requirement.localisation_distance_mm is not None)]
+             and (t != "nomarski" or requirement.wants_localisation)]
     if not types:
         raise ValueError(f"none of the allowed prism types ({', '.join(allowed)}) can meet a "
                          f"{kind} target")

@@ -354,18 +354,28 @@ def _solve_nomarski(model, norm):
                                                    axis_tilt_deg=tilt[0], **size))
     inner = _Model(fixed, model.crystal, req, model.solve_requirement, model.bounds)
     values, method = None, ""
-    for _ in range(6):
+    history = []        # (tilt tried, tilt the fringe plane then asks for)
+    for _ in range(12):
         inner._cache.clear()
         values, method = _solve_one(inner, norm)
         if values is None:
             break
+        exit_z = inner.figures([values["wedge_angle_deg"]])[0].boundaries[-1].point_mm[2]
         prism = prisms.nomarski(model.crystal, values["wedge_angle_deg"],
-                                localisation_distance_mm=req.localisation_distance_mm, **size)
+                                localisation_distance_mm=req.wanted_localisation_mm(exit_z),
+                                **size)
         inner.count += 1
-        new_tilt = prism.parameters["axis_tilt_deg"]
-        if abs(new_tilt - tilt[0]) < 1e-9:
+        wanted = prism.parameters["axis_tilt_deg"]
+        if abs(wanted - tilt[0]) < 1e-10:
             break
-        tilt[0] = new_tilt
+        history.append((tilt[0], wanted - tilt[0]))
+        if len(history) >= 2 and history[-1][1] != history[-2][1]:
+            # Secant step on g(t) = wanted(t) − t: the plain alternation converges only
+            # linearly (each step shrinks the error by the split's sensitivity to the tilt).
+            (t0, g0), (t1, g1) = history[-2:]
+            tilt[0] = t1 - g1 * (t1 - t0) / (g1 - g0)
+        else:
+            tilt[0] = wanted
     model.count += inner.count
     if values is None:
         return None, method
@@ -490,7 +500,7 @@ def solve(prism_type, crystal, requirement, *, bounds=None):
     if prism is None:
         return Design(fam.name, crystal, values, None, None, model.count, method,
                       "the solved parameters do not build a prism", False)
-    distance = prism.parameters.get("localisation_distance_mm")
+    distance = prism.parameters.get("localisation_distance_mm") if prism.kind == "nomarski" else None
     assessment = assess(prism, requirement, localisation_distance_mm=distance)
     model.count += 1
     if converged:
