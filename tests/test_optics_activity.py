@@ -287,3 +287,33 @@ def test_rotatory_power_range():
     with pytest.warns(UserWarning, match="extrapolated"):
         right.rotatory_power_deg_per_mm(1.0)
     assert chirality_from_rotation(180.0, 1.0) == pytest.approx(0.5e-3 / 1.0 * 1.0)
+
+
+@pytest.mark.parametrize("treatment", ["coherent", "incoherent"])
+def test_layers_on_active_faces_keep_energy_and_rotation(treatment):
+    # A cement film between two right-handed quartz plates (axes along z) and ideal
+    # antireflection coatings outside: the rotation is that of the total quartz thickness
+    # (Born & Wolf §15.5: rotation ∝ path in the active medium, the isotropic film adds none),
+    # and the transmitted power with the quarter-wave coatings (ideal: no reflection at the
+    # design wavelength; Macleod, *Thin-Film Optical Filters*, §3.2) is that of the inner
+    # interfaces only, which are index-matched to ~1e-3 here.
+    from prismdesign.optics import ThinLayer
+    from prismdesign.prisms.base import ideal_antireflection_layer
+    lam = 0.5893
+    right = QUARTZ.with_handedness("right")
+    n_o = QUARTZ.n_o(lam)
+    coat = ideal_antireflection_layer(1.0, n_o, lam)
+    film = ThinLayer(FixedIndices(1.545), thickness_mm=0.01, treatment=treatment)
+    media = [Medium(FixedIndices(1.0)), Medium(right, (0, 0, 1.0)), Medium(right, (0, 0, 1.0)),
+             Medium(FixedIndices(1.0))]
+    surfaces = [Surface((0, 0, 0), (0, 0, 1), layer=coat),
+                Surface((0, 0, 0.5), (0, 0, 1), layer=film),
+                Surface((0, 0, 1.5), (0, 0, 1), layer=coat)]
+    res = trace(SequentialSystem(media, surfaces), np.zeros(3), (0, 0, 1.0), lam)
+    if treatment == "coherent":
+        azimuth, ellipticity = _azimuth_deg(res)
+        rho = right.rotatory_power_deg_per_mm(lam)
+        assert -azimuth == pytest.approx(rho * 1.5, abs=1e-6)
+        assert abs(ellipticity) < 1e-9
+    total = sum(b.power for b in res.beams.values())
+    assert total == pytest.approx(1.0, abs=1e-5)

@@ -34,6 +34,7 @@ import numpy as np
 
 from .eigenmodes import mode_fields, normal_roots
 from .linear4 import solve4
+from .thin_layer import layer_transfer_matrix
 from .vectors import cross, dot
 
 __all__ = ["chirality_tensor", "berreman_matrix", "active_normal_modes", "gyrotropic_modes",
@@ -245,11 +246,13 @@ def _medium_waves(kappa, frame, indices, axis, side):
 
 
 def solve_gyrotropic_interface(wave_vector_in, field_in, normal, indices_1, axis_1, indices_2,
-                               axis_2):
+                               axis_2, layer=None):
     """Reflect and refract a plane wave where one or both media are optically active.
 
-    Same inputs and outputs as :func:`~prismdesign.optics.interface.solve_interface` (no thin
-    layer); an active medium is one whose indices are an
+    Same inputs and outputs as :func:`~prismdesign.optics.interface.solve_interface`, including
+    an optional coherent isotropic thin layer ``(n_layer, wavelength_um, thickness_mm)`` (its
+    transfer matrix, :func:`~prismdesign.optics.thin_layer.layer_transfer_matrix`, carries the
+    tangential fields of medium 1 across); an active medium is one whose indices are an
     :class:`~prismdesign.materials.activity.ActiveIndices` (a piece given a handedness). In an
     active medium the incident field must be that medium's eigenwave; its H = k × E + iξE.
 
@@ -271,6 +274,8 @@ def solve_gyrotropic_interface(wave_vector_in, field_in, normal, indices_1, axis
     xi_1 = getattr(indices_1, "chirality", None)
     xi_2 = getattr(indices_2, "chirality", None)
     extra = [np.shape(x) for x in (xi_1, xi_2) if x is not None]
+    layer_arrays = () if layer is None else tuple(np.asarray(v, dtype=float) for v in layer)
+    extra += [v.shape for v in layer_arrays]
     shape = np.broadcast_shapes(k_in.shape[:-1], e_in.shape[:-1], normal.shape[:-1],
                                 axis_1.shape[:-1], axis_2.shape[:-1],
                                 *(v.shape for v in arrays_1 + arrays_2), *extra)
@@ -319,6 +324,11 @@ def solve_gyrotropic_interface(wave_vector_in, field_in, normal, indices_1, axis
     rhs = np.stack([e_loc[:, 0], e_loc[:, 1], h_loc[:, 0], h_loc[:, 1]], axis=-1)
     columns = np.stack([e[..., 0], e[..., 1], h[..., 0], h[..., 1]], axis=1)   # (m, 4 rows, 4)
     columns[:, :, 2:] *= -1.0
+    if layer is not None:
+        matrix = layer_transfer_matrix(sca(layer_arrays[0]), kappa, sca(layer_arrays[1]),
+                                       sca(layer_arrays[2]))
+        columns[:, :, 2:] = matrix @ columns[:, :, 2:]
+        rhs = np.einsum("mij,mj->mi", matrix, rhs)
     coefficient, singular = solve4(columns, rhs)
     singular = singular | bad1 | bad2
     coefficient = np.where(singular[:, None], 0.0, coefficient)
