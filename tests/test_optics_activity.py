@@ -317,3 +317,27 @@ def test_layers_on_active_faces_keep_energy_and_rotation(treatment):
         assert abs(ellipticity) < 1e-9
     total = sum(b.power for b in res.beams.values())
     assert total == pytest.approx(1.0, abs=1e-5)
+
+
+def _cross_matrix(v):
+    return np.array([[0, -v[2], v[1]], [v[2], 0, -v[0]], [-v[1], v[0], 0]])
+
+
+@settings(max_examples=40, deadline=None)
+@given(axis=vectors, tilt=st.floats(0.0, 1.0), xi=st.floats(-0.02, 0.02),
+       ratio=st.floats(-1.0, 1.0), incidence=st.floats(-1.2, 1.2))
+def test_waves_satisfy_the_plane_wave_equations(axis, tilt, xi, ratio, incidence):
+    # Independent of Berreman's reduction: each outgoing wave's (k, E, H) satisfies the plane-wave
+    # Maxwell equations k × E = H − iξE and k × H = −εE − iξH with the chiral constitutive
+    # relations (Lindell et al. 1994, eq. for bi-anisotropic media; from memory).
+    a, normal = _random_geometry(axis, tilt)
+    k_air = np.array([np.sin(incidence), 0.0, np.cos(incidence)])
+    e_air = np.array([0.0, 1.0, 0.0])
+    medium = ActiveIndices(1.544, 1.553, xi, ratio)
+    res = solve_gyrotropic_interface(k_air, e_air, normal, (1.0, 1.0), (0, 0, 1.0), medium, a)
+    eps = 1.544 ** 2 * np.eye(3) + (1.553 ** 2 - 1.544 ** 2) * np.outer(a, a)
+    xi_t = chirality_tensor(xi, ratio, a)
+    for j in range(2):
+        k, e, h = res.wave_vector[j], res.e_field[j], res.h_field[j]
+        assert np.allclose(_cross_matrix(k) @ e, h - 1j * xi_t @ e, atol=1e-11)
+        assert np.allclose(_cross_matrix(k) @ h, -eps @ e - 1j * xi_t @ h, atol=1e-11)

@@ -125,7 +125,7 @@ def berreman_matrix(kappa, permittivity, chirality):
     return rows @ to_fields, to_fields
 
 
-def active_normal_modes(kappa, permittivity, chirality, optic_axis_local, positive):
+def active_normal_modes(kappa, permittivity, chirality, positive):
     """The four waves of an active medium sharing a tangential wave number.
 
     Parameters
@@ -133,8 +133,6 @@ def active_normal_modes(kappa, permittivity, chirality, optic_axis_local, positi
     kappa : ndarray, shape (m,)
     permittivity, chirality : ndarray, shape (m, 3, 3)
         Local frame.
-    optic_axis_local : ndarray, shape (m, 3)
-        Unused by the solve; kept for symmetry with the inactive branch.
     positive : ndarray of bool, shape (m,)
         True where n_e ≥ n_o ("e" is then the higher-index sheet).
 
@@ -238,7 +236,7 @@ def _medium_waves(kappa, frame, indices, axis, side):
     c = np.stack([dot(axis, u1), dot(axis, u2), dot(axis, normal)], axis=-1)
     eps = _permittivity(n_o, n_e, c)
     xi = chirality_tensor(np.broadcast_to(xi1, (m,)), indices.transverse_ratio, c)
-    q, e, h, ev, bad = active_normal_modes(kappa, eps, xi, c, n_e >= n_o)
+    q, e, h, ev, bad = active_normal_modes(kappa, eps, xi, n_e >= n_o)
     pick = slice(0, 2) if side == "forward" else slice(2, 4)
     q, e, h, ev = q[:, pick], e[:, pick], h[:, pick], ev[:, pick]
     s = np.cross(e, h.conj()).real
@@ -420,7 +418,7 @@ def gyrotropic_modes(wave_normal, n_o, n_e, optic_axis, chirality, transverse_ra
     u1, u2, _ = _local_frame(u, u)
     c_loc = np.stack([dot(c, u1), dot(c, u2), dot(c, u)], axis=-1)
     q, e, _, _, _ = active_normal_modes(np.zeros(size), _permittivity(n_o, n_e, c_loc),
-                                        chirality_tensor(xi1, transverse_ratio, c_loc), c_loc,
+                                        chirality_tensor(xi1, transverse_ratio, c_loc),
                                         n_e >= n_o)
     e_glob = e[..., 0:1] * u1[:, None] + e[..., 1:2] * u2[:, None] + e[..., 2:3] * u[:, None]
     ell = _ellipticity(e_glob, u[:, None, :])
