@@ -27,10 +27,20 @@ from dataclasses import dataclass
 
 import numpy as np
 
-__all__ = ["OpticalActivity", "ActiveIndices", "HANDEDNESS", "chirality_from_rotation"]
+__all__ = ["OpticalActivity", "ActiveIndices", "HANDEDNESS", "chirality_from_rotation",
+           "ActivePieceWarning"]
 
 #: Allowed handedness settings of a piece.
 HANDEDNESS = ("right", "left")
+
+
+class ActivePieceWarning(UserWarning):
+    """A prism holds an optically active piece: each beam in it is two elliptical-wave branches.
+
+    The analyses rank beams by power and pair the two strongest; with an active piece two of
+    the four branches may leave together (e.g. a quartz Rochon's undeviated beam is the
+    coherent sum of "oo" and "eo"), so pairings and splits need the caller's care.
+    """
 
 
 def chirality_from_rotation(rotatory_power_deg_per_mm, wavelength_um):
