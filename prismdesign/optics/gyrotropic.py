@@ -193,8 +193,9 @@ def _inactive_modes(kappa, frame, n_o, n_e, axis, side):
     """Waves of an inactive medium from the closed forms of :mod:`.eigenmodes` (local frame).
 
     side: "forward" (transmitted) or "backward" (reflected). Returns q (m, 2), E, H (m, 2, 3),
-    evanescent (m, 2) and the exact ray directions' local components (m, 2, 3) (None where
-    evanescent handling must use Re(E × H*)).
+    evanescent (m, 2) and the unnormalised ray directions (m, 2, 3) from the closed forms S ∥ k
+    (o) and S ∥ εk (e), exact near the optic axis; the caller replaces them by Re(E × H*) for
+    evanescent waves.
     """
     u1, u2, normal = frame
     iso = n_o == n_e
