@@ -1,5 +1,6 @@
 """Materials: published dispersion formulas, isotropic and uniaxial media, the bundled library,
 reading and writing dispersion-data files, and fitting a formula to measured indices."""
+from .activity import OpticalActivity
 from .fitting import FitResult, fit_dispersion
 from .library import (MaterialLibrary, UnknownMaterialError, load_material, material,
                       material_datasets, materials, save_material)
@@ -12,6 +13,7 @@ __all__ = [
     "FitResult",
     "IsotropicMaterial",
     "MaterialLibrary",
+    "OpticalActivity",
     "Reference",
     "UniaxialMaterial",
     "UnknownMaterialError",

@@ -17,6 +17,7 @@ from typing import Optional
 import numpy as np
 
 from .._display import shown
+from .activity import HANDEDNESS, ActiveIndices, OpticalActivity, chirality_from_rotation
 from .registry import FORMULAS, check_coefficients
 
 __all__ = [
@@ -487,6 +488,8 @@ class UniaxialMaterial(_MaterialBase):
     thermo_range_c: Optional[tuple] = None
     dataset: str = ""
     strict: bool = False
+    optical_activity: Optional[OpticalActivity] = None
+    handedness: Optional[str] = None
     _warned: set = field(default_factory=set, init=False, repr=False, compare=False, hash=False)
     _poles_around: tuple = field(default=(None, None), init=False, repr=False, compare=False,
                                  hash=False)
@@ -499,6 +502,13 @@ class UniaxialMaterial(_MaterialBase):
                              f"'positive', 'negative'")
         if (self.dn_dt_o_per_c is None) != (self.dn_dt_e_per_c is None):
             raise ValueError(f"{self.name}: give both dn_dt_o_per_c and dn_dt_e_per_c or neither")
+        if self.handedness is not None:
+            if self.handedness not in HANDEDNESS:
+                raise ValueError(f"{self.name}: handedness = {self.handedness!r}; allowed: "
+                                 f"'right', 'left' or None")
+            if self.optical_activity is None:
+                raise ValueError(f"{self.name}: handedness = {self.handedness!r} needs optical "
+                                 f"activity data ([optical_activity]); this dataset has none")
         super().__post_init__()
         grid = np.geomspace(*self.validity_um, 65)
         mean_dn = float(np.mean(self.extraordinary.n(grid) - self.ordinary.n(grid)))
@@ -526,10 +536,50 @@ class UniaxialMaterial(_MaterialBase):
                               temperature_c, strict)
 
     def indices(self, wavelength_um, temperature_c=None, *, strict=None):
-        """``(n_o, n_e)`` at ``wavelength_um`` (µm), with one range check."""
+        """``(n_o, n_e)`` at ``wavelength_um`` (µm), with one range check.
+
+        For a piece with a handedness (:meth:`with_handedness`) the pair is an
+        :class:`~prismdesign.materials.activity.ActiveIndices` carrying the chirality, which
+        makes the interface solver treat the medium as optically active.
+        """
         lam = self._wavelength(wavelength_um, strict)
-        return (self._value(self.ordinary, self.dn_dt_o_per_c, lam, temperature_c, strict),
+        pair = (self._value(self.ordinary, self.dn_dt_o_per_c, lam, temperature_c, strict),
                 self._value(self.extraordinary, self.dn_dt_e_per_c, lam, temperature_c, strict))
+        if self.handedness is None:
+            return pair
+        activity = self.optical_activity
+        rho = activity.rotatory_power_deg_per_mm(
+            lam, strict=self.strict if strict is None else strict)
+        sign = 1.0 if self.handedness == "right" else -1.0
+        ratio = activity.transverse_ratio or 0.0
+        return ActiveIndices(*pair, chirality_from_rotation(sign * rho, lam),
+                             transverse_ratio=ratio)
+
+    def rotatory_power_deg_per_mm(self, wavelength_um, *, strict=None):
+        """Signed rotatory power along the optic axis (degrees per mm): positive for a
+        right-handed piece (clockwise seen facing the light), negative for a left-handed one.
+
+        Raises for a material without activity data or without a handedness.
+        """
+        if self.optical_activity is None or self.handedness is None:
+            raise ValueError(f"{self.label}: rotatory power needs optical activity data and a "
+                             f"handedness ('right' or 'left'); got handedness = "
+                             f"{self.handedness!r}")
+        sign = 1.0 if self.handedness == "right" else -1.0
+        rho = self.optical_activity.rotatory_power_deg_per_mm(
+            wavelength_um, strict=self.strict if strict is None else strict)
+        return sign * rho
+
+    def with_handedness(self, handedness):
+        """A copy of this crystal as a right- or left-handed piece (optically active).
+
+        Parameters
+        ----------
+        handedness : {"right", "left"} or None
+            "right": dextrorotatory (clockwise seen facing the oncoming light); None gives
+            back the inactive description (activity ignored, as before it was modelled).
+        """
+        return replace(self, handedness=handedness)
 
     def birefringence(self, wavelength_um, temperature_c=None, *, strict=None):
         """Signed birefringence n_e − n_o at ``wavelength_um`` (µm)."""

@@ -9,6 +9,7 @@ from __future__ import annotations
 import numpy as np
 
 from .registry import check_coefficients
+from .activity import OpticalActivity
 from .material import DispersionModel, IsotropicMaterial, Reference, UniaxialMaterial
 
 __all__ = ["SCHEMA_VERSION", "material_from_dict", "material_to_dict"]
@@ -16,7 +17,7 @@ __all__ = ["SCHEMA_VERSION", "material_from_dict", "material_to_dict"]
 SCHEMA_VERSION = 1
 
 _COMMON = {"schema", "name", "dataset", "aliases", "kind", "temperature_c", "validity_um",
-           "transparency_um", "notes", "reference", "thermo_optic"}
+           "transparency_um", "notes", "reference", "thermo_optic", "optical_activity"}
 _KIND_KEYS = {"uniaxial": {"optical_sign", "ordinary", "extraordinary"},
               "isotropic": {"index"}}
 _REQUIRED = {"schema", "name", "kind", "temperature_c", "validity_um", "reference"}
@@ -102,6 +103,60 @@ def _thermo(where, kind, table):
     return values, reference
 
 
+_ACTIVITY_KEYS = {"model", "A_deg_um2_per_mm", "pole_um2", "constant_deg_per_mm", "validity_um",
+                  "transverse_ratio", "reference"}
+
+
+def _number_list(where, key, value):
+    if (not isinstance(value, list) or not value
+            or any(isinstance(v, bool) or not isinstance(v, (int, float)) or not np.isfinite(v)
+                   for v in value)):
+        _fail(where, key, value, "a non-empty list of finite numbers")
+    return tuple(float(v) for v in value)
+
+
+def _activity(where, kind, table):
+    """The ``[optical_activity]`` table: a Drude sum for the rotatory power along the axis."""
+    if not isinstance(table, dict):
+        _fail(where, "optical_activity", table, "a table with model, A_deg_um2_per_mm, "
+              "pole_um2, validity_um and reference")
+    if kind != "uniaxial":
+        _fail(where, "optical_activity", "[table]", "only in uniaxial crystal files")
+    where = f"{where} [optical_activity]"
+    _check_keys(where, table, _ACTIVITY_KEYS,
+                {"model", "A_deg_um2_per_mm", "pole_um2", "validity_um", "reference"})
+    if table["model"] != "drude":
+        _fail(where, "model", table["model"], "'drude'")
+    amplitudes = _number_list(where, "A_deg_um2_per_mm", table["A_deg_um2_per_mm"])
+    poles = _number_list(where, "pole_um2", table["pole_um2"])
+    if len(amplitudes) != len(poles):
+        _fail(where, "pole_um2", table["pole_um2"],
+              f"one pole per amplitude ({len(amplitudes)})")
+    ratio = table.get("transverse_ratio")
+    try:
+        return OpticalActivity(
+            amplitudes_deg_um2_per_mm=amplitudes, poles_um2=poles,
+            validity_um=_band(where, "validity_um", table["validity_um"]),
+            reference=_string(where, "reference", table["reference"]),
+            constant_deg_per_mm=_number(where, "constant_deg_per_mm",
+                                        table.get("constant_deg_per_mm", 0.0)),
+            transverse_ratio=None if ratio is None else _number(where, "transverse_ratio", ratio))
+    except ValueError as error:
+        message = str(error)
+        raise ValueError(message if message.startswith(where) else f"{where}: {message}") \
+            from None
+
+
+def _activity_table(activity) -> dict:
+    table = {"model": "drude", "A_deg_um2_per_mm": list(activity.amplitudes_deg_um2_per_mm),
+             "pole_um2": list(activity.poles_um2),
+             "constant_deg_per_mm": activity.constant_deg_per_mm,
+             "validity_um": list(activity.validity_um), "reference": activity.reference}
+    if activity.transverse_ratio is not None:
+        table["transverse_ratio"] = activity.transverse_ratio
+    return table
+
+
 def material_from_dict(data: dict, where: str):
     """Build a material from a parsed schema-1 document.
 
@@ -156,6 +211,8 @@ def material_from_dict(data: dict, where: str):
     if "thermo_optic" in data:
         dn_dt, common["thermo_reference"] = _thermo(where, kind, data["thermo_optic"])
         common.update(dn_dt)
+    if "optical_activity" in data:
+        activity = _activity(where, kind, data["optical_activity"])
     try:
         if kind == "isotropic":
             return IsotropicMaterial(index=_dispersion(where, "index", data["index"]), **common)
@@ -165,7 +222,9 @@ def material_from_dict(data: dict, where: str):
         return UniaxialMaterial(ordinary=_dispersion(where, "ordinary", data["ordinary"]),
                                 extraordinary=_dispersion(where, "extraordinary",
                                                           data["extraordinary"]),
-                                optical_sign=sign, **common)
+                                optical_sign=sign, optical_activity=(
+                                    activity if "optical_activity" in data else None),
+                                **common)
     except ValueError as error:
         message = str(error)
         raise ValueError(message if message.startswith(where) else f"{where}: {message}") \
@@ -211,4 +270,6 @@ def material_to_dict(material) -> dict:
                                 "reference": material.thermo_reference}
         if material.thermo_range_c is not None:
             data["thermo_optic"]["temperature_range_c"] = list(material.thermo_range_c)
+    if getattr(material, "optical_activity", None) is not None:
+        data["optical_activity"] = _activity_table(material.optical_activity)
     return data

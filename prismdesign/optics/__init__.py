@@ -1,6 +1,7 @@
 """Exact crystal optics: plane-wave eigenmodes, interface solver, thin layers (coherent or
-incoherent), sequential tracer."""
+incoherent), sequential tracer, optically active (gyrotropic) pieces."""
 from .eigenmodes import extraordinary_index, plane_wave_modes
+from .gyrotropic import activity_crossover_angle_deg, gyrotropic_modes
 from .interface import MODE_ORDER, InterfaceResult, solve_interface
 from .system import (CircularAperture, FixedIndices, Medium, RectangularAperture,
                      SequentialSystem, Surface, optic_axis_from_angles)
@@ -11,4 +12,5 @@ from .vectors import direction_from_angles
 __all__ = ["extraordinary_index", "plane_wave_modes", "MODE_ORDER", "InterfaceResult",
            "solve_interface", "CircularAperture", "FixedIndices", "Medium", "RectangularAperture",
            "SequentialSystem", "Surface", "optic_axis_from_angles", "ThinLayer", "Beam",
-           "TraceFlag", "TraceResult", "trace", "direction_from_angles"]
+           "TraceFlag", "TraceResult", "trace", "direction_from_angles", "gyrotropic_modes",
+           "activity_crossover_angle_deg"]

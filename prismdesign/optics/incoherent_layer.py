@@ -140,7 +140,7 @@ def solve_incoherent_layer(wave_vector_in, field_in, normal, indices_1, axis_1, 
     # Far face, lit from inside by the unit s and p waves (second axis: which one).
     col = np.s_[:, None]
     face_b = solve_interface(forward_k[col], forward_e, normal[col], (n_layer[col], n_layer[col]),
-                             _ANY_AXIS, (indices_2[0][col], indices_2[1][col]), axis_2[col])
+                             _ANY_AXIS, _rows(indices_2, col), axis_2[col])
     amp_b = np.swapaxes(_power_amplitudes(face_b), 1, 2)  # (m, out, in)
     t_b, r_b = amp_b[:, :2], amp_b[:, 2:]
     back_k = face_b.wave_vector[:, 0, 2].real
@@ -148,7 +148,7 @@ def solve_incoherent_layer(wave_vector_in, field_in, normal, indices_1, axis_1, 
 
     # Near face, lit from inside by the backward s and p waves.
     face_c = solve_interface(back_k[col], back_e, normal[col], (n_layer[col], n_layer[col]),
-                             _ANY_AXIS, (indices_1[0][col], indices_1[1][col]), axis_1[col])
+                             _ANY_AXIS, _rows(indices_1, col), axis_1[col])
     amp_c = np.swapaxes(_power_amplitudes(face_c), 1, 2)
     t_c, r_c = amp_c[:, :2], amp_c[:, 2:]
     # Express the re-reflected forward waves in the forward basis of the first face: the same
@@ -192,6 +192,17 @@ def solve_incoherent_layer(wave_vector_in, field_in, normal, indices_1, axis_1, 
 
 _RESULT_ARRAYS = ("coefficient", "power_fraction", "evanescent", "singular", "normal",
                   "normal_component", "e_field", "ray_direction", "_tangential")
+
+
+def _rows(indices, rows):
+    """``indices`` indexed by ``rows``; the pair of an optically active piece keeps its
+    chirality (same type, see :mod:`.gyrotropic`)."""
+    pair = (indices[0][rows], indices[1][rows])
+    chirality = getattr(indices, "chirality", None)
+    if chirality is None:
+        return pair
+    chirality = np.broadcast_to(chirality, np.shape(indices[0]))[rows]
+    return type(indices)(*pair, chirality, indices.transverse_ratio)
 
 
 def solve_layered_interface(wave_vector_in, field_in, normal, indices_1, axis_1, indices_2,
@@ -239,7 +250,7 @@ def solve_layered_interface(wave_vector_in, field_in, normal, indices_1, axis_1,
     args = (k, np.asarray(field_in), normal, indices_1, axis_1, indices_2, axis_2)
 
     def rows(mask):
-        ind1, ind2 = ([v[mask] for v in pair] for pair in (indices_1, indices_2))
+        ind1, ind2 = _rows(indices_1, mask), _rows(indices_2, mask)
         return (k[mask], args[1][mask], normal[mask], ind1, axis_1[mask], ind2, axis_2[mask])
 
     incoherent_part = solve_incoherent_layer(*rows(incoherent), n_layer[incoherent],

@@ -335,6 +335,11 @@ def solve_interface(wave_vector_in, field_in, normal, indices_1, axis_1, indices
     InterfaceResult
         Arrays of the broadcast shape of the inputs (plus mode and vector axes).
     """
+    if hasattr(indices_1, "chirality") or hasattr(indices_2, "chirality"):
+        # An optically active piece (indices carry its chirality): separate exact solver.
+        from .gyrotropic import solve_gyrotropic_interface
+        return solve_gyrotropic_interface(wave_vector_in, field_in, normal, indices_1, axis_1,
+                                          indices_2, axis_2, layer)
     k_in = np.asarray(wave_vector_in, dtype=float)
     e_in = np.asarray(field_in, dtype=complex)
     n_o1, n_e1 = (np.asarray(v, dtype=float) for v in indices_1)
