@@ -36,11 +36,22 @@ from .merit import figures as nominal_figures
 from .perturbation import has_thermo_optic_data, parameter, prism_parameters
 
 __all__ = ["Sensitivities", "sensitivities", "wollaston_closed_form", "DEFAULT_STEPS",
-           "figure_unit"]
+           "default_step", "figure_unit"]
 
 #: Central-difference step per unit of error: small enough that the O(h²) truncation stays
 #: below 1e-9 relative, large enough that rounding (~1e-16 / h) does too.
-DEFAULT_STEPS = {"deg": 1e-3, "mm": 1e-4, "nm": 1e-2, "°C": 1e-2}
+DEFAULT_STEPS = {"deg": 1e-3, "mm": 1e-4, "nm": 1e-2, "°C": 1e-2, "Δn": 1e-5}
+
+#: A layer's thickness gets a finer step (1 nm): a coherent film's transmission swings over
+#: λ/(2n cos θ) ≈ 0.2 µm of thickness, so the length step above would blur it.
+LAYER_THICKNESS_STEP_MM = 1e-6
+
+
+def default_step(param):
+    """Central-difference step of a :class:`~prismdesign.design.Parameter` (its unit)."""
+    if param.name.endswith("_layer_thickness_mm"):
+        return LAYER_THICKNESS_STEP_MM
+    return DEFAULT_STEPS[param.unit]
 
 
 def figure_unit(name):
@@ -204,7 +215,7 @@ def sensitivities(prism, requirement, parameters=None, *, steps=None, field_edge
     if not params:
         raise ValueError("parameters must name at least one error parameter, got none")
     steps = dict(steps or {})
-    h = np.array([float(steps.get(p.name, DEFAULT_STEPS[p.unit])) for p in params])
+    h = np.array([float(steps.get(p.name, default_step(p))) for p in params])
     if not np.all(np.isfinite(h) & (h > 0)):
         raise ValueError(f"steps must be positive numbers, got {shown(steps)}")
     count = len(params)
