@@ -259,3 +259,64 @@ def test_temperature_sweep_slope_equals_closed_form():
     assert slope == pytest.approx(closed, rel=1e-3)
     with pytest.raises(ValueError, match="no thermo-optic data"):
         temperature_sweep(pd.prisms.wollaston("calcite", 10.0), req, [20.0, 30.0])
+
+
+# ---------------------------------------------------------------- the issue's allocation example
+def test_axis_error_moves_the_split_a_thousand_times_less_than_a_wedge_error(wollaston):
+    """The example behind tolerance allocation, measured for a 15° calcite Wollaston at
+    632.8 nm against closed forms (Snell's law at the interface and exit face, Born & Wolf
+    §1.5.2; the extraordinary index at angle θ from the axis, 1/n² = cos²θ/n_o² + sin²θ/n_e²,
+    Born & Wolf §15.3): a 0.5° error of the interface angle moves the split by 0.184°; a
+    0.5° tilt of the first wedge's axis out of its face (polar error δ) by only 1.7e-4°, since
+    the wave along z then sees n_e(90° − δ) = n_e + O(δ²); an azimuth error (axis turned within
+    the face) keeps the axis ⟂ z and moves it by < 1e-6°. (The issue's rough 0.0014° and 0.4°
+    were estimates; the measured ratio is ~1000.)"""
+    lam = np.array([LINE])
+    split0 = pd.analysis.split(wollaston, lam).split_deg[0]
+    moved = {}
+    for name in ("face1_angle_deg", "piece0_axis_polar_deg", "piece0_axis_azimuth_deg"):
+        built, _ = apply_errors(wollaston, {name: 0.5})
+        moved[name] = pd.analysis.split(built, lam).split_deg[0] - split0
+    n_o, n_e = (float(v[0]) for v in pd.material("calcite").indices(lam))
+    n_air = float(pd.material("air").indices(lam)[0][0])
+    theta, n1, n2, n0, tilt = sp.symbols("theta n1 n2 n0 tilt", real=True)
+    exit_angle = sp.asin(n2 / n0 * sp.sin(sp.asin(n1 * sp.sin(theta) / n2) - theta))
+    wedge = sp.rad(sp.Float(15, 30))
+
+    def split(wedge_angle, n_first_e):
+        """|eo − oe| exit angles in degrees, the first wedge's e index given."""
+        eo = exit_angle.subs({n1: n_first_e, n2: n_o, theta: wedge_angle, n0: n_air})
+        oe = exit_angle.subs({n1: n_o, n2: n_e, theta: wedge_angle, n0: n_air})
+        return abs(float(sp.deg(eo - oe)))
+
+    # The exit face stays put when the interface turns about its centre: the closed form above
+    # has the exit face parallel to the entrance, as the built prism does.
+    expected_wedge = split(wedge + sp.rad(sp.Float(0.5, 30)), n_e) - split(wedge, n_e)
+    delta = np.deg2rad(0.5)
+    n_tilted = (np.sin(delta) ** 2 / n_o ** 2 + np.cos(delta) ** 2 / n_e ** 2) ** -0.5
+    expected_axis = split(wedge, n_tilted) - split(wedge, n_e)
+    assert moved["face1_angle_deg"] == pytest.approx(expected_wedge, rel=1e-6)
+    assert moved["face1_angle_deg"] == pytest.approx(0.184, abs=5e-4)
+    assert moved["piece0_axis_polar_deg"] == pytest.approx(expected_axis, rel=1e-3)
+    assert abs(moved["piece0_axis_polar_deg"]) == pytest.approx(1.7e-4, rel=0.02)
+    assert abs(moved["piece0_axis_azimuth_deg"]) < 1e-6
+    assert abs(moved["face1_angle_deg"] / moved["piece0_axis_polar_deg"]) > 1000
+
+
+def test_tornado_legend_names_the_positive_and_negative_error_bars(wollaston, monkeypatch):
+    from prismdesign.output import tolerance_plots
+    captured = {}
+    monkeypatch.setattr(tolerance_plots, "_save", lambda fig, path: captured.setdefault("fig", fig))
+    rows = sensitivities(wollaston, _requirement(wollaston), ["face0_angle_deg",
+                                                               "face1_angle_deg"]).ranked("split_deg")
+    tolerance_plots.plot_tornado(rows, "unused.png")
+    ax = captured["fig"].axes[0]
+    texts = [t.get_text() for t in ax.get_legend().get_texts()]
+    assert texts == ["+ error (at +1 unit)", "− error (at −1 unit)"]
+    # The solid (+ error) bar of the interface angle lies on the side of its sensitivity.
+    plus = ax.containers[0]
+    top = plus.patches[0]  # first row plotted is the largest, face1_angle_deg
+    assert np.sign(top.get_width()) == np.sign(rows[0]["sensitivity"]) and rows[0]["parameter"] \
+        == "face1_angle_deg"
+    import matplotlib.pyplot as plt
+    plt.close(captured["fig"])
