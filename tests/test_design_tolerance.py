@@ -320,3 +320,56 @@ def test_tornado_legend_names_the_positive_and_negative_error_bars(wollaston, mo
         == "face1_angle_deg"
     import matplotlib.pyplot as plt
     plt.close(captured["fig"])
+
+
+# ---------------------------------------------------------------- field-of-view edges
+@pytest.fixture(scope="module")
+def glan_edges():
+    prism = pd.prisms.glan_air_spaced("calcite", 38.5)
+    req = Requirement(lines_um=(0.55, LINE), polariser=True, max_leakage=1e-3)
+    names = ["face1_angle_deg", "face0_angle_deg", "piece0_axis_polar_deg",
+             "incidence_in_plane_deg"]
+    return prism, req, sensitivities(prism, req, names, field_edges=True)
+
+
+def test_field_edge_sensitivities_equal_differences_of_field_of_view_maps(glan_edges):
+    # The batched bisection against the edges of separate field_of_view maps of each stepped
+    # prism (prismdesign.analysis.field_of_view, itself checked against the critical angle in
+    # test_analysis_field_of_view.py).
+    prism, req, sens = glan_edges
+    names = ("plus_in_plane", "minus_in_plane")
+    for k, name in enumerate(["face1_angle_deg", "face0_angle_deg", "piece0_axis_polar_deg"]):
+        edges = []
+        for sign in (1, -1):
+            built, _ = apply_errors(prism, {name: sign * 1e-3})
+            edges.append(pd.analysis.field_of_view(built, req.wavelengths_um, steps=21,
+                                                   tolerance_deg=1e-10)
+                         .half_angles_deg["combined"])
+        loop = (edges[0] - edges[1]) / 2e-3
+        for j, direction in enumerate(names):
+            np.testing.assert_allclose(sens.of(f"field_edge_{direction}_deg", name),
+                                       loop[:, j], atol=2e-6)
+
+
+def test_glan_edge_moves_with_the_critical_angle_condition(glan_edges):
+    """The +in-plane edge of an air-spaced Glan is where the ordinary beam stops being totally
+    reflected at the gap: n_o sin(θ_gap) = n_air (Born & Wolf §1.5.4). Tilting the gap by δ
+    changes θ_gap by δ, so the beam inside must turn by δ to stay at the condition, and by
+    Snell's law at the entrance face (n_air sin a = n_o sin β) the edge a moves by
+    da/dδ = n_o cos β / (n_air cos a). A misalignment α of the input moves both in-plane edges
+    by ∓α one-for-one (edges are counted from the nominal input direction)."""
+    prism, req, sens = glan_edges
+    a = np.deg2rad(sens.nominal["field_edge_plus_in_plane_deg"])
+    n_o = pd.material("calcite").indices(req.wavelengths_um)[0]
+    n_air = pd.material("air").indices(req.wavelengths_um)[0]
+    beta = np.arcsin(n_air * np.sin(a) / n_o)
+    expected = n_o * np.cos(beta) / (n_air * np.cos(a))
+    got = sens.of("field_edge_plus_in_plane_deg", "face1_angle_deg")
+    np.testing.assert_allclose(np.abs(got), expected, rtol=1e-5)
+    np.testing.assert_allclose(sens.of("field_edge_plus_in_plane_deg", "incidence_in_plane_deg"),
+                               -1.0, atol=1e-6)
+    np.testing.assert_allclose(sens.of("field_edge_minus_in_plane_deg",
+                                       "incidence_in_plane_deg"), 1.0, atol=1e-6)
+    # Out of the principal section the spec holds to the map's border: no edge, NaN, a note.
+    assert np.all(np.isnan(sens.values["field_edge_plus_out_of_plane_deg"]))
+    assert any("field_edge_plus_out_of_plane_deg" in note for note in sens.notes)
