@@ -373,3 +373,28 @@ def test_glan_edge_moves_with_the_critical_angle_condition(glan_edges):
     # Out of the principal section the spec holds to the map's border: no edge, NaN, a note.
     assert np.all(np.isnan(sens.values["field_edge_plus_out_of_plane_deg"]))
     assert any("field_edge_plus_out_of_plane_deg" in note for note in sens.notes)
+
+
+@pytest.mark.parametrize("build,expected", [(pd.prisms.rochon, "in_plane"),
+                                            (pd.prisms.senarmont, "across")])
+def test_undeviated_polarisation_is_judged_per_sample(build, expected):
+    """The undeviated (ordinary) beam of a Rochon carries the x (in-plane) input, of a
+    Sénarmont the y input (Bennett, Handbook of Optics vol. II ch. 3, from memory; checked by
+    trace in test_prisms_rochon.py). The batch judges each built prism as the single-prism
+    merit does, and the margin follows the requirement prism by prism."""
+    from prismdesign.design.merit import figures as single_figures
+    prism = build("calcite", 20.0)
+    errors = {"piece1_axis_azimuth_deg": [0.0, 0.3, -0.4], "face1_angle_deg": [0.0, 0.2, -0.1],
+              "incidence_in_plane_deg": [0.0, 0.5, -0.5]}
+    for wanted in ("in_plane", "across"):
+        req = Requirement(lines_um=(0.55, LINE), split_deg=_split(prism), tolerance=0.5,
+                          undeviated_polarisation=wanted)
+        figs, batch = sample_figures(prism, req, errors)
+        assert list(figs.undeviated_polarisation) == [expected] * 3
+        for k in range(3):
+            one, _ = apply_errors(prism, {name: v[k] for name, v in errors.items()
+                                          if name != "incidence_in_plane_deg"})
+            assert single_figures(one, req).undeviated_polarisation == expected
+        margins, _ = sample_margins(prism, req, figs, batch)
+        np.testing.assert_array_equal(margins["undeviated polarisation"],
+                                      [0.0 if wanted == expected else -1.0] * 3)
