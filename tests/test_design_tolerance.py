@@ -307,8 +307,9 @@ def test_tornado_legend_names_the_positive_and_negative_error_bars(wollaston, mo
     from prismdesign.output import tolerance_plots
     captured = {}
     monkeypatch.setattr(tolerance_plots, "_save", lambda fig, path: captured.setdefault("fig", fig))
-    rows = sensitivities(wollaston, _requirement(wollaston), ["face0_angle_deg",
-                                                               "face1_angle_deg"]).ranked("split_deg")
+    sens = sensitivities(wollaston, _requirement(wollaston), ["face0_angle_deg",
+                                                               "face1_angle_deg"])
+    rows = sens.ranked("split_deg")
     tolerance_plots.plot_tornado(rows, "unused.png")
     ax = captured["fig"].axes[0]
     texts = [t.get_text() for t in ax.get_legend().get_texts()]

@@ -9,25 +9,25 @@ the trace inputs.
 Parameters that can carry errors, by name (``i`` a piece index, ``j`` a boundary index,
 0 = entrance face):
 
-=============================  ====  ==============================================================
-``piece<i>_axis_polar_deg``    deg   polar angle of the optic axis from z (the cut angle)
-``piece<i>_axis_azimuth_deg``  deg   azimuth of the optic axis about z, from x
-``face<j>_angle_deg``          deg   tilt of the face within the principal section (about the
-                                     prism's y axis through the face centre): a wedge-angle error
-``face<j>_pyramid_deg``        deg   tilt of the face out of the principal section, toward +y
-                                     (pyramidal error)
-``piece<i>_length_mm``         mm    thickness of the piece along z (later faces move with it)
-``incidence_in_plane_deg``     deg   misalignment of the input beam in the principal section
-``incidence_out_of_plane_deg`` deg   misalignment across it
-``wavelength_nm``              nm    error of the source wavelength
-``temperature_change_c``       °C    change of the prism's temperature from its reference (only
-                                     where every piece's material has thermo-optic data)
-``face<j>_layer_thickness_mm`` mm    error of the thickness of the cement film or gap at a
-                                     boundary that carries a thin layer (clipped at zero: a gap
-                                     closes to optical contact, no further)
-``face<j>_layer_index``        Δn    error of that layer's refractive index (added at every
-                                     wavelength: a cement batch, a gas fill)
-=============================  ====  ==============================================================
+==============================  ====  ==============================================================
+``piece<i>_axis_polar_deg``     deg   polar angle of the optic axis from z (the cut angle)
+``piece<i>_axis_azimuth_deg``   deg   azimuth of the optic axis about z, from x
+``face<j>_angle_deg``           deg   tilt of the face within the principal section (about the
+                                      prism's y axis through the face centre): a wedge-angle error
+``face<j>_pyramid_deg``         deg   tilt of the face out of the principal section, toward +y
+                                      (pyramidal error)
+``piece<i>_length_mm``          mm    thickness of the piece along z (later faces move with it)
+``incidence_in_plane_deg``      deg   misalignment of the input beam in the principal section
+``incidence_out_of_plane_deg``  deg   misalignment across it
+``wavelength_nm``               nm    error of the source wavelength
+``temperature_change_c``        °C    change of the prism's temperature from its reference (only
+                                      where every piece's material has thermo-optic data)
+``face<j>_layer_thickness_mm``  mm    error of the thickness of the cement film or gap at a
+                                      boundary that carries a thin layer (clipped at zero: a gap
+                                      closes to optical contact, no further)
+``face<j>_layer_index``         Δn    error of that layer's refractive index (added at every
+                                      wavelength: a cement batch, a gas fill)
+==============================  ====  ==============================================================
 
 Layer errors ride on :class:`~prismdesign.optics.ThinLayer` arrays (thickness and index offset
 with the sample axes), so perturbed layers trace in the same batch as everything else.

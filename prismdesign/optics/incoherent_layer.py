@@ -231,7 +231,8 @@ def solve_layered_interface(wave_vector_in, field_in, normal, indices_1, axis_1,
     if layer.treatment == "incoherent":
         thin = incoherent & (n_layer * thickness * 1e3 < wavelength_um)
         if np.any(thin):
-            warnings.warn(f"thin layer of {float(thickness[thin][0]) * 1e3:g} um treated as incoherent "
+            first_um = float(thickness[thin][0]) * 1e3
+            warnings.warn(f"thin layer of {first_um:g} um treated as incoherent "
                           f"although its optical thickness is below the wavelength "
                           f"({float(wavelength_um[thin][0]):g} um): films this thin keep their "
                           f"interference; 'auto' or 'coherent' is the usual choice",
