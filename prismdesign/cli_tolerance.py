@@ -24,6 +24,46 @@ from .output.demo_materials import LASER_CAUTION
 
 __all__ = ["add_tolerance_parsers"]
 
+#: Why a figure of the JSON output can be undefined, by its key (JSON has no NaN: such a
+#: figure is written as null and listed under "undefined" with the reason).
+_UNDEFINED_REASONS = {
+    "sensitivity": "the figure does not exist at the nominal or a stepped prism (a lost beam)",
+    "swing": "the figure does not exist at the nominal or a stepped prism (a lost beam)",
+    "rank_correlation": "no spread: every sample passed, or this error or the margin is constant",
+    "uncertainty": "not determined by these data",
+    "correlation": "a parameter not determined by these data",
+    "reduced_chi_square": "no degrees of freedom: no more measurements than fitted parameters",
+    "residuals": "the model beam is lost at this measurement",
+}
+_UNDEFINED_DEFAULT = "undefined: the quantity does not exist for this prism (a lost beam)"
+
+
+def _json_ready(value, where="", undefined=None):
+    """`value` with numpy types as plain Python and non-finite floats as None; each None so
+    written is recorded in `undefined` as {"field": JSON path, "reason": ...}."""
+    if isinstance(value, dict):
+        return {k: _json_ready(v, f"{where}.{k}" if where else str(k), undefined)
+                for k, v in value.items()}
+    if isinstance(value, (list, tuple, np.ndarray)):
+        return [_json_ready(v, f"{where}[{i}]", undefined) for i, v in enumerate(value)]
+    if isinstance(value, np.generic):
+        value = value.item()
+    if isinstance(value, float) and not np.isfinite(value):
+        if undefined is not None:
+            key = where.rsplit(".", 1)[-1].split("[", 1)[0]
+            undefined.append(dict(field=where, value=str(value),
+                                  reason=_UNDEFINED_REASONS.get(key, _UNDEFINED_DEFAULT)))
+        return None
+    return value
+
+
+def _json_dumps(payload):
+    """Strict JSON (no NaN / Infinity tokens) with an "undefined" list of what was null."""
+    undefined = []
+    clean = _json_ready(payload, "", undefined)
+    clean["undefined"] = undefined
+    return json.dumps(clean, indent=2, allow_nan=False)
+
 #: Prism types these verbs build from one size value (wedge / cut angle or thickness).
 BUILDERS = {"wollaston": prisms.wollaston, "rochon": prisms.rochon,
             "senarmont": prisms.senarmont, "glan_air_spaced": prisms.glan_air_spaced,
@@ -178,14 +218,14 @@ def _tolerance_command(args) -> str:
             plot_histogram(mc, folder / "histogram.png", target=requirement.target_value,
                            tolerance=requirement.target_tolerance)
     if args.json:
-        return json.dumps(dict(sensitivities=ranked, yield_fraction=mc.yield_fraction,
+        return _json_dumps(dict(sensitivities=ranked, yield_fraction=mc.yield_fraction,
                                yield_error=mc.yield_error, samples=mc.samples, seed=args.seed,
                                worst_sample=mc.worst_sample(), drivers=mc.failure_drivers(),
                                tolerances=rows,
                                allocation=None if allocation is None else dict(
                                    message=allocation.message,
                                    check_yield=allocation.check_yield),
-                               caution=LASER_CAUTION), indent=2)
+                               caution=LASER_CAUTION))
     unit = ranked[0]["figure_unit"] if ranked else ""
     lines = [f"What moves the {figure} of this {prism.kind} ({args.crystal}, {args.size:g}):",
              f"  {'error':30s} {'per unit':>12s} {'tolerance':>10s} {'swing ' + unit:>12s}"]
@@ -222,12 +262,9 @@ def _fit_command(args) -> str:
     data = read_measurements(args.measurements)
     fit = fit_as_built(prism, data, args.fit)
     if args.json:
-        table = [{k: (None if isinstance(v, float) and not np.isfinite(v) else v)
-                  for k, v in row.items()} for row in fit.table()]
-        return json.dumps(dict(parameters=table, reduced_chi_square=fit.reduced_chi_square,
-                               correlation=np.where(np.isfinite(fit.correlation),
-                                                    fit.correlation, None).tolist(),
-                               residuals=fit.residuals.tolist(), undetermined=list(fit.undetermined),
-                               evaluations=fit.evaluations, message=fit.message,
-                               caution=LASER_CAUTION), indent=2, default=float)
+        return _json_dumps(dict(parameters=fit.table(), reduced_chi_square=fit.reduced_chi_square,
+                                correlation=fit.correlation, residuals=fit.residuals,
+                                undetermined=list(fit.undetermined),
+                                evaluations=fit.evaluations, message=fit.message,
+                                caution=LASER_CAUTION))
     return fit.report() + "\n\n" + LASER_CAUTION

@@ -46,3 +46,45 @@ def test_fit_built_from_csv(capsys, tmp_path):
     assert abs(data["parameters"][0]["value"] - 0.04) < 1e-8
     assert main(["fit-built", str(tmp_path / "missing.csv"), "--type", "wollaston",
                  "--crystal", "calcite", "--size", "15", "--fit", "face1_angle_deg"]) == 2
+
+
+def _refuse(token):
+    raise ValueError(f"not JSON: {token}")
+
+
+def test_json_has_no_nan_and_names_why_a_figure_is_null(capsys, tmp_path):
+    # RFC 8259 (The JSON Data Interchange Format, 2017, §6) has no NaN or Infinity: undefined
+    # figures are written as null and listed with a reason.
+    import prismdesign as pd
+    from prismdesign.design import apply_errors
+    prism = pd.prisms.wollaston("calcite", 15.0)
+    built, _ = apply_errors(prism, {"face1_angle_deg": 0.04})
+    lam = np.array([0.45, 0.6328, 0.98])
+    split = pd.analysis.split(built, lam).split_deg
+    path = tmp_path / "bench.csv"
+    path.write_text("wavelength_um,split_deg\n" + "".join(f"{float(l)!r},{float(s)!r}\n" for l, s in
+                                                        zip(lam, split)), encoding="utf-8")
+    # The first wedge's axis polar angle moves no split to first order: its uncertainty and
+    # correlations are undefined (see test_design_as_built.test_undetermined_parameter_is_named).
+    code = main(["fit-built", str(path), "--type", "wollaston", "--crystal", "calcite",
+                 "--size", "15", "--fit", "face1_angle_deg", "piece0_axis_polar_deg", "--json"])
+    assert code == 0
+    data = json.loads(capsys.readouterr().out, parse_constant=_refuse)
+    assert data["parameters"][1]["uncertainty"] is None
+    fields = {u["field"]: u["reason"] for u in data["undefined"]}
+    assert "not determined" in fields["parameters[1].uncertainty"]
+    assert data["correlation"][0][1] is None and "correlation[0][1]" in fields
+    assert main(BASE + ["--json"]) == 0
+    data = json.loads(capsys.readouterr().out, parse_constant=_refuse)
+    assert isinstance(data["undefined"], list)
+
+
+def test_json_writer_turns_every_non_finite_number_into_null_with_a_reason():
+    from prismdesign.cli_tolerance import _json_dumps
+    text = _json_dumps(dict(sensitivities=[dict(parameter="a", sensitivity=np.float64(np.nan))],
+                            spread=np.array([1.0, np.inf]), count=np.int64(3)))
+    data = json.loads(text, parse_constant=_refuse)
+    assert data["sensitivities"][0]["sensitivity"] is None and data["spread"] == [1.0, None]
+    assert data["count"] == 3
+    assert [u["field"] for u in data["undefined"]] == ["sensitivities[0].sensitivity", "spread[1]"]
+    assert "lost beam" in data["undefined"][0]["reason"]

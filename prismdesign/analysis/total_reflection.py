@@ -96,7 +96,7 @@ def surface_margins(beam, system):
         else:
             margin = n_o * n_o - kt2
         if surface.layer is not None:
-            n_layer = surface.layer.material.indices(lam)[0]
+            n_layer = surface.layer.material.indices(lam)[0] + surface.layer.index_offset
             margin = np.minimum(margin, n_layer * n_layer - kt2)
         out.append(margin)
     return np.stack(out)

@@ -32,7 +32,7 @@ from .._display import shown
 from ..analysis._common import rank_beams, strip_pair
 from .batch_merit import trace_figures
 from .perturbation import apply_errors, parameter
-from .sensitivity import DEFAULT_STEPS
+from .sensitivity import default_step
 
 __all__ = ["QUANTITIES", "Measurements", "measurements", "read_measurements", "AsBuiltFit",
            "fit_as_built", "UndeterminedParameterWarning"]
@@ -325,7 +325,7 @@ def fit_as_built(prism, data, parameters, *, start=None, steps=None, condition_l
         raise ValueError(f"{data.rows} measurements cannot determine {count} parameters; "
                          f"measure at more wavelengths or angles")
     steps = dict(steps or {})
-    h = np.array([float(steps.get(p.name, DEFAULT_STEPS[p.unit])) for p in params])
+    h = np.array([float(steps.get(p.name, default_step(p))) for p in params])
     x0 = np.zeros(count) if start is None else _floats("start", start, (count,)).copy()
     main = _main_beams(prism, data)
     evaluations = [0]

@@ -8,9 +8,15 @@ nominal prism (a perturbed prism is judged on the beams it was designed to deliv
 observation plane stays where the nominal exit face puts it (the lab's screen does not move
 with the prism). Lost beams give NaN and a missed (failing) margin, as in the merit.
 
-Where a requirement compares something a small error cannot change (the polarisation of the
-undeviated beam, the Nomarski localisation distance) the nominal value is used.
+The polarisation of the undeviated beam is judged per sample, from the powers each member of
+the unpolarised pair puts into it (as :func:`~prismdesign.design.merit.figures` does for one
+prism). The Nomarski localisation distance keeps its nominal value: it comes from a fit of the
+crossing of a fan of rays (:func:`~prismdesign.prisms.nomarski.localisation_plane`), one
+scalar solve per prism that does not batch over samples, so it is not re-fitted per sample:
+a Monte Carlo yield does not see errors that move the localisation plane (check a built
+prism with :func:`~prismdesign.analysis.fringe_localisation` instead).
 """
+import warnings
 from dataclasses import dataclass
 
 import numpy as np
@@ -50,6 +56,10 @@ class BatchFigures:
         Power outside the main beams over the transmitted power.
     present : dict[str, ndarray of bool]
         Where each main beam leaves the prism as a usable beam.
+    undeviated_polarisation : ndarray of str or None
+        Two main beams: per prism (shape S, over the wavelengths on axis), "in_plane" or
+        "across", the input polarisation that feeds the less deviated beam; "" where that
+        beam is lost. None for one main beam.
     """
 
     main_labels: tuple
@@ -64,6 +74,7 @@ class BatchFigures:
     transmittance: dict
     leakage: np.ndarray
     present: dict
+    undeviated_polarisation: np.ndarray | None = None
 
 
 def trace_figures(prism, wavelength_um, in_plane_deg, out_of_plane_deg, main_labels, *,
@@ -90,6 +101,7 @@ def trace_figures(prism, wavelength_um, in_plane_deg, out_of_plane_deg, main_lab
     BatchFigures
     """
     result = prism.trace(wavelength_um, in_plane_deg, out_of_plane_deg, polarisation="unpolarised")
+    pair_power = {label: b.power for label, b in result.beams.items()}
     beams = {label: strip_pair(b, result.incoherent_pair) for label, b in result.beams.items()}
     shape = next(iter(beams.values())).power.shape
     total = sum((b.power for b in beams.values()), np.zeros(shape))
@@ -143,8 +155,34 @@ def trace_figures(prism, wavelength_um, in_plane_deg, out_of_plane_deg, main_lab
                     clearance = np.where(both, separation - radii[0] - radii[1], nan)
         else:
             split = bisector = offset = opd = nan
+        undeviated = _undeviated_polarisation(main, deviation, pair_power, present)
+    else:
+        undeviated = None
     return BatchFigures(main, deviation, across, split, bisector, offset, opd, separation,
-                        clearance, transmittance, leakage, present)
+                        clearance, transmittance, leakage, present, undeviated)
+
+
+def _undeviated_polarisation(main, deviation, pair_power, present):
+    """Per prism, which input polarisation feeds the less deviated main beam (on axis, over
+    the wavelengths), as :func:`~prismdesign.design.merit.figures`; "" where it is lost.
+
+    Pair member 0 of the unpolarised trace is the in-plane (x) input, member 1 the one across.
+    """
+    a, b = main
+    with np.errstate(invalid="ignore"), warnings.catch_warnings():
+        warnings.simplefilter("ignore", RuntimeWarning)  # all-NaN slices: a lost beam
+        dev_a = np.nanmean(np.abs(deviation[a][..., 0]), axis=-1)
+        dev_b = np.nanmean(np.abs(deviation[b][..., 0]), axis=-1)
+    pick_b = dev_b < dev_a
+    lead = dev_a.shape
+    pair = [np.zeros((2,) + lead) if label not in pair_power
+            else np.broadcast_to(pair_power[label], (2,) + lead + pair_power[label].shape[-2:])
+            [..., 0].sum(axis=-1) for label in (a, b)]
+    px = np.where(pick_b, pair[1][0], pair[0][0])
+    py = np.where(pick_b, pair[1][1], pair[0][1])
+    alive = np.where(pick_b, present[b][..., 0].any(axis=-1), present[a][..., 0].any(axis=-1))
+    alive &= np.isfinite(np.where(pick_b, dev_b, dev_a))
+    return np.where(alive, np.where(px >= py, "in_plane", "across"), "")
 
 
 def _on_plane(beam, plane_z_mm):
@@ -273,7 +311,13 @@ def sample_margins(prism, requirement, figs, batch, nominal=None):
         miss = _worst(np.abs(figs.bisector_deg[..., 0] - requirement.bisector_deg), first)
         margins["bisector"], scales["bisector"] = tol - miss, tol
     for m in nominal.margins:
-        if m.name in ("undeviated polarisation", "localisation distance", "beams"):
+        if m.name == "undeviated polarisation" and figs.undeviated_polarisation is not None:
+            pol = figs.undeviated_polarisation
+            margins[m.name] = np.where(pol == "", np.nan, np.where(
+                pol == requirement.undeviated_polarisation, 0.0, -1.0))
+            scales[m.name] = m.scale
+        elif m.name in ("undeviated polarisation", "localisation distance", "beams"):
+            # Kept nominal: see the module docstring.
             margins[m.name] = np.full(lead, m.margin)
             scales[m.name] = m.scale
     if requirement.max_length_mm is not None:

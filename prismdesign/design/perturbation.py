@@ -9,23 +9,28 @@ the trace inputs.
 Parameters that can carry errors, by name (``i`` a piece index, ``j`` a boundary index,
 0 = entrance face):
 
-=============================  ====  ==============================================================
-``piece<i>_axis_polar_deg``    deg   polar angle of the optic axis from z (the cut angle)
-``piece<i>_axis_azimuth_deg``  deg   azimuth of the optic axis about z, from x
-``face<j>_angle_deg``          deg   tilt of the face within the principal section (about the
-                                     prism's y axis through the face centre): a wedge-angle error
-``face<j>_pyramid_deg``        deg   tilt of the face out of the principal section, toward +y
-                                     (pyramidal error)
-``piece<i>_length_mm``         mm    thickness of the piece along z (later faces move with it)
-``incidence_in_plane_deg``     deg   misalignment of the input beam in the principal section
-``incidence_out_of_plane_deg`` deg   misalignment across it
-``wavelength_nm``              nm    error of the source wavelength
-``temperature_change_c``       °C    change of the prism's temperature from its reference (only
-                                     where every piece's material has thermo-optic data)
-=============================  ====  ==============================================================
+==============================  ====  ==============================================================
+``piece<i>_axis_polar_deg``     deg   polar angle of the optic axis from z (the cut angle)
+``piece<i>_axis_azimuth_deg``   deg   azimuth of the optic axis about z, from x
+``face<j>_angle_deg``           deg   tilt of the face within the principal section (about the
+                                      prism's y axis through the face centre): a wedge-angle error
+``face<j>_pyramid_deg``         deg   tilt of the face out of the principal section, toward +y
+                                      (pyramidal error)
+``piece<i>_length_mm``          mm    thickness of the piece along z (later faces move with it)
+``incidence_in_plane_deg``      deg   misalignment of the input beam in the principal section
+``incidence_out_of_plane_deg``  deg   misalignment across it
+``wavelength_nm``               nm    error of the source wavelength
+``temperature_change_c``        °C    change of the prism's temperature from its reference (only
+                                      where every piece's material has thermo-optic data)
+``face<j>_layer_thickness_mm``  mm    error of the thickness of the cement film or gap at a
+                                      boundary that carries a thin layer (clipped at zero: a gap
+                                      closes to optical contact, no further)
+``face<j>_layer_index``         Δn    error of that layer's refractive index (added at every
+                                      wavelength: a cement batch, a gas fill)
+==============================  ====  ==============================================================
 
-A cement or gap layer's index and thickness are not (yet) parameters: the thin-layer solver
-takes one layer per surface, not per sample.
+Layer errors ride on :class:`~prismdesign.optics.ThinLayer` arrays (thickness and index offset
+with the sample axes), so perturbed layers trace in the same batch as everything else.
 """
 import re
 from dataclasses import dataclass, replace
@@ -48,6 +53,8 @@ _PATTERNS = (
     (re.compile(r"incidence_out_of_plane_deg$"), "deg", "incidence across the principal section"),
     (re.compile(r"wavelength_nm$"), "nm", "source wavelength"),
     (re.compile(r"temperature_change_c$"), "°C", "temperature change"),
+    (re.compile(r"face(\d+)_layer_thickness_mm$"), "mm", "face {0}: layer thickness"),
+    (re.compile(r"face(\d+)_layer_index$"), "Δn", "face {0}: layer index"),
 )
 
 
@@ -60,7 +67,7 @@ class Parameter:
     name : str
         Key such as ``"face1_angle_deg"`` (see the module table).
     unit : str
-        Unit of the error ("deg", "mm", "nm", "°C").
+        Unit of the error ("deg", "mm", "nm", "°C", "Δn" for a refractive-index error).
     description : str
         Plain words for tables.
     """
@@ -139,6 +146,11 @@ def prism_parameters(prism, include_temperature=None):
         out.append(Parameter(f"face{j}_pyramid_deg", "deg", f"face {j}: pyramidal tilt"))
     for i in range(len(prism.pieces)):
         out.append(Parameter(f"piece{i}_length_mm", "mm", f"piece {i}: length"))
+    for j, b in enumerate(prism.boundaries):
+        if b.layer is not None and not b.coated:
+            out.append(Parameter(f"face{j}_layer_thickness_mm", "mm",
+                                 f"face {j}: layer thickness"))
+            out.append(Parameter(f"face{j}_layer_index", "Δn", f"face {j}: layer index"))
     out += [Parameter("incidence_in_plane_deg", "deg", "incidence in the principal section"),
             Parameter("incidence_out_of_plane_deg", "deg", "incidence across the principal "
                                                            "section"),
@@ -260,6 +272,16 @@ def apply_errors(prism, errors, *, ray_ndim=0):
             n = normalize(n * np.cos(pyramid) + across * np.sin(pyramid))
         point = b.point_mm + np.array([0.0, 0.0, 1.0]) * shift
         boundaries[j] = replace(b, point_mm=point, normal=n)
+    for j, b in enumerate(boundaries):
+        d_thick, d_index = get(f"face{j}_layer_thickness_mm"), get(f"face{j}_layer_index")
+        if b.layer is None or (d_thick is None and d_index is None):
+            continue
+        layer = b.layer
+        if d_thick is not None:
+            layer = replace(layer, thickness_mm=np.maximum(layer.thickness_mm + d_thick, 0.0))
+        if d_index is not None:
+            layer = replace(layer, index_offset=layer.index_offset + d_index)
+        boundaries[j] = replace(b, layer=layer)
     temperature = prism.temperature_c
     if get("temperature_change_c") is not None:
         temperature = reference_temperature_c(prism) + get("temperature_change_c")

@@ -36,11 +36,22 @@ from .merit import figures as nominal_figures
 from .perturbation import has_thermo_optic_data, parameter, prism_parameters
 
 __all__ = ["Sensitivities", "sensitivities", "wollaston_closed_form", "DEFAULT_STEPS",
-           "figure_unit"]
+           "default_step", "figure_unit"]
 
 #: Central-difference step per unit of error: small enough that the O(h²) truncation stays
 #: below 1e-9 relative, large enough that rounding (~1e-16 / h) does too.
-DEFAULT_STEPS = {"deg": 1e-3, "mm": 1e-4, "nm": 1e-2, "°C": 1e-2}
+DEFAULT_STEPS = {"deg": 1e-3, "mm": 1e-4, "nm": 1e-2, "°C": 1e-2, "Δn": 1e-5}
+
+#: A layer's thickness gets a finer step (1 nm): a coherent film's transmission swings over
+#: λ/(2n cos θ) ≈ 0.2 µm of thickness, so the length step above would blur it.
+LAYER_THICKNESS_STEP_MM = 1e-6
+
+
+def default_step(param):
+    """Central-difference step of a :class:`~prismdesign.design.Parameter` (its unit)."""
+    if param.name.endswith("_layer_thickness_mm"):
+        return LAYER_THICKNESS_STEP_MM
+    return DEFAULT_STEPS[param.unit]
 
 
 def figure_unit(name):
@@ -188,8 +199,9 @@ def sensitivities(prism, requirement, parameters=None, *, steps=None, field_edge
     steps : dict[str, float], optional
         Central-difference step per parameter name (its unit); default :data:`DEFAULT_STEPS`.
     field_edges : bool
-        Also differentiate the four field-of-view edges (polariser requirements; one
-        field-of-view map per perturbed prism, so slower).
+        Also differentiate the four field-of-view edges (polariser requirements): one
+        field-of-view map of the nominal prism, then one batched bisection for all stepped
+        prisms (see :func:`_field_edge_differences`). Open or lost edges give NaN.
 
     Returns
     -------
@@ -204,7 +216,7 @@ def sensitivities(prism, requirement, parameters=None, *, steps=None, field_edge
     if not params:
         raise ValueError("parameters must name at least one error parameter, got none")
     steps = dict(steps or {})
-    h = np.array([float(steps.get(p.name, DEFAULT_STEPS[p.unit])) for p in params])
+    h = np.array([float(steps.get(p.name, default_step(p))) for p in params])
     if not np.all(np.isfinite(h) & (h > 0)):
         raise ValueError(f"steps must be positive numbers, got {shown(steps)}")
     count = len(params)
@@ -237,42 +249,79 @@ def sensitivities(prism, requirement, parameters=None, *, steps=None, field_edge
                     method[name][k] = "closed form"
     evaluations = 2 * count + 1
     if field_edges:
-        edge_values, edge_nominal = _field_edge_differences(prism, requirement, params, h)
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore", DispersionRangeWarning)
+            edge_values, edge_nominal = _field_edge_differences(prism, requirement, params, h)
         values.update(edge_values)
         central.update({k: v.copy() for k, v in edge_values.items()})
         nominal.update(edge_nominal)
         method.update({k: ["central difference"] * count for k in edge_values})
         evaluations += 2 * count + 1
+        for name, value in edge_nominal.items():
+            if np.any(np.isnan(value)):
+                notes.append(f"{name}: no edge inside the ±10° map at some wavelength (the spec "
+                             f"holds to its border, or fails at normal incidence): NaN there")
     return Sensitivities(requirement.wavelengths_um, params, nominal, values,
                          {k: tuple(v) for k, v in method.items()}, central, h, evaluations,
                          tuple(notes))
 
 
-def _field_edge_differences(prism, requirement, params, h):
-    """Central differences of the four field-of-view edges (one map per perturbed prism)."""
-    from ..analysis.field_of_view import field_of_view
+#: Half-width (degrees) of the bracket around each nominal field edge in which the edges of
+#: the stepped prisms are sought: the default steps move an edge by ~1e-3 degrees per unit of
+#: sensitivity, far inside it.
+_EDGE_BRACKET_DEG = 0.05
+
+
+def _field_edge_differences(prism, requirement, params, h, tolerance_deg=1e-10):
+    """Central differences of the four field-of-view edges, all stepped prisms at once.
+
+    The nominal edges come from :func:`~prismdesign.analysis.field_of_view` (a 21 × 21 map,
+    refined by bisection). The 2P stepped prisms (±h per parameter) then share ONE batched
+    bisection inside ±:data:`_EDGE_BRACKET_DEG` of each nominal edge: one trace per step covers
+    every prism, wavelength and direction. Edges are angles from the nominal input direction;
+    an incidence error α therefore moves the in-plane edges by ∓α (the field stays with the
+    prism), a wavelength error through the indices. An edge that is open (beyond the map) or
+    does not stay in its bracket gives NaN.
+    """
+    from ..analysis.field_of_view import DIRECTIONS, field_of_view, requirement_margins
     from .perturbation import apply_errors
-    lam = requirement.wavelengths_um
-    directions = ("plus_in_plane", "minus_in_plane", "plus_out_of_plane", "minus_out_of_plane")
-
-    def edges(errors):
-        single, inputs = apply_errors(prism, errors)
-        if np.any(np.asarray(inputs.wavelength_um) != 0) or np.any(
-                np.asarray(inputs.in_plane_deg) != 0) or np.any(
-                np.asarray(inputs.out_of_plane_deg) != 0):
-            return None
-        fov = field_of_view(single, lam, steps=21)
-        return fov.half_angles_deg["combined"]  # (n, 4)
-
-    base = edges({})
-    out = {f"field_edge_{d}_deg": np.full((len(params), lam.size), np.nan) for d in directions}
+    lam = np.asarray(requirement.wavelengths_um, dtype=float)
+    names = [f"field_edge_{d}_deg" for d in ("plus_in_plane", "minus_in_plane",
+                                            "plus_out_of_plane", "minus_out_of_plane")]
+    fov = field_of_view(prism, lam, steps=21, tolerance_deg=tolerance_deg)
+    base = np.asarray(fov.half_angles_deg["combined"], dtype=float)          # (n, 4)
+    usable = ~np.asarray(fov.open_ended["combined"]) & (base > 0)
+    count = len(params)
+    errors = {}
     for k, p in enumerate(params):
-        plus, minus = edges({p.name: h[k]}), edges({p.name: -h[k]})
-        if plus is None:
-            continue  # input errors move the field as a whole; not an edge of the prism
-        for j, d in enumerate(directions):
-            out[f"field_edge_{d}_deg"][k] = (plus[..., j] - minus[..., j]) / (2 * h[k])
-    nominal = {f"field_edge_{d}_deg": base[..., j] for j, d in enumerate(directions)}
+        column = np.zeros(2 * count)
+        column[2 * k], column[2 * k + 1] = h[k], -h[k]
+        errors[p.name] = column
+    batch, inputs = apply_errors(prism, errors, ray_ndim=2)                  # samples (2P, 1, 1)
+    azimuth = np.deg2rad([a for _, a in DIRECTIONS])
+    wavelength = lam[:, None] + inputs.wavelength_um                         # (2P, n, 1)
+
+    def margin(angle_deg):
+        """Smallest requirement margin at distance `angle_deg` along each direction."""
+        in_plane = angle_deg * np.cos(azimuth) + inputs.in_plane_deg
+        out_of_plane = angle_deg * np.sin(azimuth) + inputs.out_of_plane_deg
+        return requirement_margins(batch, wavelength, in_plane, out_of_plane,
+                                   fov.requirements).min(axis=0)
+
+    shape = (2 * count,) + base.shape
+    lo = np.broadcast_to(np.maximum(base - _EDGE_BRACKET_DEG, 0.0), shape).copy()
+    hi = np.broadcast_to(base + _EDGE_BRACKET_DEG, shape).copy()
+    bracketed = (margin(lo) > 0) & (margin(hi) <= 0) & usable
+    steps = int(np.ceil(np.log2(2 * _EDGE_BRACKET_DEG / tolerance_deg))) + 1
+    for _ in range(steps):
+        mid = 0.5 * (lo + hi)
+        good = margin(mid) > 0
+        lo, hi = np.where(good, mid, lo), np.where(good, hi, mid)
+    edges = np.where(bracketed, lo, np.nan)
+    derivative = (edges[0::2] - edges[1::2]) / (2 * h[:, None, None])         # (P, n, 4)
+    out = {name: derivative[..., j] for j, name in enumerate(names)}
+    nominal = {name: np.where(usable[..., j], base[..., j], np.nan)
+               for j, name in enumerate(names)}
     return out, nominal
 
 

@@ -78,7 +78,7 @@ def incoherent_rays(layer, n_layer, wavelength_um, kappa2):
         return np.zeros_like(propagating)
     if layer.treatment == "incoherent":
         return propagating
-    optical_thickness_um = n_layer * layer.thickness_mm * 1e3
+    optical_thickness_um = n_layer * np.asarray(layer.thickness_mm) * 1e3
     threshold_um = wavelength_um
     if layer.coherence_length_mm is not None:
         threshold_um = np.maximum(threshold_um, 0.5e3 * layer.coherence_length_mm)
@@ -218,8 +218,10 @@ def solve_layered_interface(wave_vector_in, field_in, normal, indices_1, axis_1,
     axis_1, axis_2 : ndarray, shape (m, 3)
         As for :func:`~prismdesign.optics.interface.solve_interface`, flat over rays.
     layer : ThinLayer
+        Its thickness a scalar or one value per ray, shape (m,) (see
+        :meth:`~prismdesign.optics.ThinLayer.flat_over`).
     n_layer, wavelength_um : ndarray, shape (m,)
-        Layer index and vacuum wavelength (µm) of each ray.
+        Layer index (including the layer's index offset) and vacuum wavelength (µm) of each ray.
 
     Returns
     -------
@@ -235,10 +237,13 @@ def solve_layered_interface(wave_vector_in, field_in, normal, indices_1, axis_1,
     wavelength_um = np.broadcast_to(np.asarray(wavelength_um, dtype=float), (m,))
     k_n = dot(k, normal)
     incoherent = incoherent_rays(layer, n_layer, wavelength_um, dot(k, k) - k_n * k_n)
+    # Per-sample layers (perturbed prisms) carry one thickness per ray.
+    thickness = np.broadcast_to(np.asarray(layer.thickness_mm, dtype=float), (m,))
     if layer.treatment == "incoherent":
-        thin = incoherent & (n_layer * layer.thickness_mm * 1e3 < wavelength_um)
+        thin = incoherent & (n_layer * thickness * 1e3 < wavelength_um)
         if np.any(thin):
-            warnings.warn(f"thin layer of {layer.thickness_mm * 1e3:g} um treated as incoherent "
+            first_um = float(thickness[thin][0]) * 1e3
+            warnings.warn(f"thin layer of {first_um:g} um treated as incoherent "
                           f"although its optical thickness is below the wavelength "
                           f"({float(wavelength_um[thin][0]):g} um): films this thin keep their "
                           f"interference; 'auto' or 'coherent' is the usual choice",
@@ -246,7 +251,7 @@ def solve_layered_interface(wave_vector_in, field_in, normal, indices_1, axis_1,
     coherent = ~incoherent
     if not incoherent.any():
         return solve_interface(k, field_in, normal, indices_1, axis_1, indices_2, axis_2,
-                               layer=(n_layer, wavelength_um, layer.thickness_mm)), incoherent
+                               layer=(n_layer, wavelength_um, thickness)), incoherent
     args = (k, np.asarray(field_in), normal, indices_1, axis_1, indices_2, axis_2)
 
     def rows(mask):
@@ -254,12 +259,12 @@ def solve_layered_interface(wave_vector_in, field_in, normal, indices_1, axis_1,
         return (k[mask], args[1][mask], normal[mask], ind1, axis_1[mask], ind2, axis_2[mask])
 
     incoherent_part = solve_incoherent_layer(*rows(incoherent), n_layer[incoherent],
-                                             wavelength_um[incoherent], layer.thickness_mm)
+                                             wavelength_um[incoherent], thickness[incoherent])
     if not coherent.any():
         return incoherent_part, incoherent
     coherent_part = solve_interface(*rows(coherent), layer=(n_layer[coherent],
                                                             wavelength_um[coherent],
-                                                            layer.thickness_mm))
+                                                            thickness[coherent]))
     merged = {}
     for name in _RESULT_ARRAYS:
         a, b = getattr(coherent_part, name), getattr(incoherent_part, name)

@@ -14,7 +14,7 @@ F(d) = exp(i k0 A d) F(0) = cos(k0 q d) I + i sin(k0 q d)/q · A, an even functi
 root choice, and cos/sin become cosh/sinh for an evanescent gap (Berreman, J. Opt. Soc. Am. 62,
 502 (1972); Born & Wolf, *Principles of Optics*, §1.6.2, characteristic matrix).
 """
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
@@ -33,8 +33,10 @@ class ThinLayer:
     material : object
         Anything with ``indices(wavelength_um, temperature_c=None) -> (n_o, n_e)``; only
         isotropic materials (n_o = n_e) are accepted at trace time.
-    thickness_mm : float
+    thickness_mm : float or ndarray
         Layer thickness in millimetres (e.g. 0.01 for a 10 µm cement film); zero is allowed.
+        An array (per-sample thicknesses of perturbed prisms, shape S + (1,)*ray_ndim) broadcasts
+        against the rays, as per-sample optic axes and surface normals do.
     treatment : {"auto", "coherent", "incoherent"}
         How the multiple reflections inside the layer add up.
 
@@ -60,17 +62,32 @@ class ThinLayer:
         Coherence length of the light, L_c ≈ λ²/Δλ for a source of bandwidth Δλ (mm); only
         used by "auto". None (default) means short or unknown: every propagating layer at
         least a wavelength thick is incoherent.
+    index_offset : float or ndarray
+        Added to the material's index at every wavelength (a cement batch or gas whose index
+        differs from the data; default 0). An array broadcasts against the rays like
+        `thickness_mm`.
     """
 
     material: object
     thickness_mm: float
     treatment: str = "auto"
     coherence_length_mm: float | None = None
+    index_offset: object = 0.0
 
     def __post_init__(self):
-        t = float(self.thickness_mm)
-        if not np.isfinite(t) or t < 0:
-            raise ValueError(f"thin layer thickness_mm must be finite and >= 0, got {self.thickness_mm!r}")
+        for name, low in (("thickness_mm", 0.0), ("index_offset", -np.inf)):
+            value = getattr(self, name)
+            try:
+                if isinstance(value, (str, bytes, bool, np.bool_)):
+                    raise TypeError
+                arr = np.asarray(value, dtype=float)
+            except (TypeError, ValueError):
+                raise ValueError(f"thin layer {name} must be a number or an array of numbers, "
+                                 f"got {value!r}") from None
+            if arr.size == 0 or not np.all(np.isfinite(arr) & (arr >= low)):
+                allowed = "finite and >= 0" if low == 0.0 else "finite"
+                raise ValueError(f"thin layer {name} must be {allowed}, got {value!r}")
+            object.__setattr__(self, name, float(arr) if arr.ndim == 0 else arr)
         if not isinstance(self.treatment, str) or self.treatment not in LAYER_TREATMENTS:
             raise ValueError(f"thin layer treatment must be one of {', '.join(LAYER_TREATMENTS)}, "
                              f"got {self.treatment!r}")
@@ -81,6 +98,21 @@ class ThinLayer:
             if not ok or not (np.isfinite(length) and length > 0):
                 raise ValueError(f"thin layer coherence_length_mm must be None or a positive "
                                  f"length in mm, got {length!r}")
+
+    @property
+    def per_sample(self):
+        """True when thickness or index offset carries sample axes (a perturbed layer)."""
+        return np.ndim(self.thickness_mm) > 0 or np.ndim(self.index_offset) > 0
+
+    def flat_over(self, shape):
+        """This layer with thickness and index offset broadcast to a bundle `shape` and
+        flattened (one value per ray, the tracer's flat order); unchanged when both are scalars.
+        """
+        if not self.per_sample:
+            return self
+        flat = lambda v: np.broadcast_to(v, shape).reshape(-1)  # noqa: E731
+        return replace(self, thickness_mm=flat(self.thickness_mm),
+                       index_offset=flat(self.index_offset))
 
     @property
     def description(self):

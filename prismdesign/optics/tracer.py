@@ -344,6 +344,8 @@ def trace(system, position_mm, direction, wavelength_um, polarisation=(1.0, 0.0)
     extra = [np.shape(m.optic_axis)[:-1] for m in crystals]
     extra += [np.shape(m.temperature_c) for m in system.media]
     extra += [np.shape(v)[:-1] for s in system.surfaces for v in (s.point_mm, s.normal)]
+    extra += [np.shape(v) for s in system.surfaces if s.layer is not None
+              for v in (s.layer.thickness_mm, s.layer.index_offset)]
     position, direction, wavelength, jones, shape, pair = _prepare_input(
         position_mm, direction, wavelength_um, polarisation, extra)
     media_indices = [_medium_indices(m, wavelength, shape) for m in system.media]
@@ -363,12 +365,14 @@ def trace(system, position_mm, direction, wavelength_um, polarisation=(1.0, 0.0)
     layer_treatments = {}
     for i, surface in enumerate(system.surfaces):
         before, after = system.media[i], system.media[i + 1]
-        layer = None
+        layer = thin = None
         if surface.layer is not None:
             n_layer, n_layer_e = surface.layer.material.indices(wavelength)
             if np.any(n_layer != n_layer_e):
                 raise ValueError(f"thin layer at surface {i} must be isotropic")
-            layer = (n_layer, wavelength, surface.layer.thickness_mm)
+            thin = surface.layer.flat_over(shape)  # per-sample thickness / index: one per ray
+            n_layer = n_layer + thin.index_offset
+            layer = (n_layer, wavelength, thin.thickness_mm)
             layer_treatments[surface.label or f"surface {i}"] = surface.layer.description
         mirror = surface.reflect_from is not None
         flat_surface = _FlatSurface(surface, shape)
@@ -386,7 +390,7 @@ def trace(system, position_mm, direction, wavelength_um, polarisation=(1.0, 0.0)
             else:
                 res, incoherent = solve_layered_interface(
                     branch.k, branch.field, flat_surface.normal, media_indices[i], axes[i],
-                    far_indices, far_axis, surface.layer, layer[0], wavelength)
+                    far_indices, far_axis, thin, layer[0], wavelength)
                 flags = flags | np.where(incoherent, TraceFlag.INCOHERENT_LAYER, 0)
             flags = flags | np.where(res.singular, TraceFlag.SINGULAR, 0)
             tunnelled = 0

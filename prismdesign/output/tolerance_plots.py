@@ -16,6 +16,9 @@ def _save(fig, path):
 def plot_tornado(rows, path, *, title="", count=12):
     """Horizontal bars: how far each error moves a figure, largest on top.
 
+    Two bars per parameter, with a legend: the first-order change of the figure for a
+    positive error (solid) and for a negative one (light, hatched).
+
     Parameters
     ----------
     rows : list of dict
@@ -34,17 +37,25 @@ def plot_tornado(rows, path, *, title="", count=12):
     signs = np.array([np.sign(r["sensitivity"]) or 1.0 for r in rows])
     labels = [f"{r['parameter']} (±{r['tolerance']:.3g} {r['parameter_unit']})" if swing
               else f"{r['parameter']} (per {r['parameter_unit']})" for r in rows]
-    fig, ax = plt.subplots(figsize=(7.5, 0.45 * len(rows) + 1.4), layout="constrained")
+    fig, ax = plt.subplots(figsize=(7.5, 0.45 * len(rows) + 1.9), layout="constrained")
     y = np.arange(len(rows))[::-1]
-    ax.barh(y, values * signs, color=np.where(signs > 0, "#3b6ea5", "#c0504d"))
-    ax.barh(y, -values * signs, color=np.where(signs > 0, "#c0504d", "#3b6ea5"), alpha=0.35)
+    # Each parameter gets two bars, to first order: the change of the figure for a positive
+    # error (solid) and for the same negative error (light, hatched), so the sign of the
+    # sensitivity reads off the side the solid bar is on.
+    size = "tolerance" if swing else "1 unit"
+    ax.barh(y, values * signs, color="#3b6ea5", label=f"+ error (at +{size})")
+    ax.barh(y, -values * signs, color="#e8a33d", alpha=0.55, hatch="//", edgecolor="#a86c12",
+            lw=0.0, label=f"− error (at −{size})")
     ax.set_yticks(y, labels, fontsize=8)
     ax.axvline(0.0, color="#333333", lw=0.8)
+    if rows:
+        ax.legend(loc="lower center", bbox_to_anchor=(0.5, 1.0), ncol=2, fontsize=8,
+                  frameon=False)
     unit = rows[0]["figure_unit"] if rows else ""
     what = rows[0]["figure"] if rows else ""
     ax.set_xlabel(f"change of {what} ({unit})" + (" at + / − the tolerance" if swing
                                                   else " per unit of error"))
-    ax.set_title(title or f"What moves {what}")
+    ax.set_title(title or f"What moves {what}", pad=22)
     return _save(fig, path)
 
 
