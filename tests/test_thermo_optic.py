@@ -258,3 +258,28 @@ def test_plot_writes_a_figure(tmp_path, calcite_wollaston):
     assert path.stat().st_size > 10_000
     with pytest.raises(ValueError, match="one of the swept temperatures"):
         plot_temperature_dependence(result, tmp_path / "bad.png", reference_c=25.0)
+
+
+# ----------------------------------------------------------------------- the design layer
+def test_operating_range_adds_a_split_over_temperature_margin():
+    # The margin's worst split must be the closed-form split (Snell's law twice, Born & Wolf
+    # §1.5.1) at one end of the range, with the indices at that temperature.
+    need = pd.design.Requirement(lines_um=(0.6328,), split_deg=5.2, tolerance=0.01,
+                                 temperature_range_c=(0.0, 60.0))
+    prism = pd.prisms.wollaston("calcite", 15.0, width_mm=10.0)
+    margins = {m.name: m for m in pd.design.assess(prism, need).margins}
+    held = margins["split over temperature"]
+    calcite, n_air = pd.material("calcite"), pd.material("air").n(0.6328)
+    n_o, n_e = calcite.indices(0.6328, np.array([0.0, 60.0]))
+    wedge = np.deg2rad(15.0)
+    ends = np.rad2deg(np.abs(wollaston_exit_angle_rad(n_o, n_e, wedge, n_air)
+                             - wollaston_exit_angle_rad(n_e, n_o, wedge, n_air)))
+    worst = ends[np.argmax(np.abs(ends - 5.2))]
+    assert held.achieved == pytest.approx(worst, abs=1e-9)
+    assert held.margin == pytest.approx(0.01 - abs(worst - 5.2), abs=1e-9)
+    # Without a range there is no such margin; without dn/dT it is NaN with the reason.
+    plain = pd.design.Requirement(lines_um=(0.6328,), split_deg=5.2, tolerance=0.01)
+    assert "split over temperature" not in {m.name for m in pd.design.assess(prism, plain).margins}
+    sapphire = {m.name: m for m in pd.design.assess(pd.prisms.wollaston("sapphire", 60.0),
+                                                    need).margins}["split over temperature"]
+    assert np.isnan(sapphire.margin) and "no thermo-optic data for sapphire" in sapphire.reason

@@ -319,6 +319,11 @@ def assess(prism, requirement, *, figs=None, localisation_distance_mm=None):
         achieved = float(value[np.nanargmax(np.abs(value - target))]) if np.isfinite(miss) else np.nan
         margins.append(Margin(kind, achieved, target, tol - miss, requirement.target_unit, tol,
                               reason))
+        if requirement.temperature_range_c is not None:
+            from .temperature import temperature_margin   # imports this module: import late
+            held = temperature_margin(prism, requirement, main)
+            if held is not None:
+                margins.append(held)
     elif np.any(figs.lost[main[0]] != ""):
         margins.append(Margin("transmitted beam", np.nan, 1.0, np.nan, "", 1.0,
                               _lost_text(figs, main)))

@@ -3,16 +3,17 @@
 The physics (one batched trace over temperatures and wavelengths, the refusal of pieces
 without thermo-optic data) lives in :func:`prismdesign.analysis.temperature_dependence`; this
 module picks the requirement's wavelengths and the merit's main beams, so a design and its
-temperature sweep speak of the same beams.
+temperature sweep speak of the same beams, and turns a requirement's operating temperature
+range into a margin (:func:`temperature_margin`) that the assessment adds to a split target.
 """
 from dataclasses import dataclass
 
 import numpy as np
 
-from ..analysis.temperature import temperature_dependence
-from .merit import figures as nominal_figures
+from ..analysis.temperature import has_thermo_optic_data, temperature_dependence
+from .merit import Margin, figures as nominal_figures
 
-__all__ = ["TemperatureSweep", "temperature_sweep"]
+__all__ = ["TemperatureSweep", "temperature_sweep", "temperature_margin"]
 
 
 @dataclass(frozen=True)
@@ -63,3 +64,45 @@ def temperature_sweep(prism, requirement, temperature_c):
     split_deg = result.split_deg if len(result.main_labels) == 2 else None
     return TemperatureSweep(result.temperature_c, result.wavelength_um, split_deg,
                             dict(result.deviation_deg), result.valid_range_c)
+
+
+def temperature_margin(prism, requirement, main_labels):
+    """How well a split target holds over the requirement's operating temperature range.
+
+    Parameters
+    ----------
+    prism : Prism
+    requirement : Requirement
+        Its `temperature_range_c` (°C), split target and tolerance, and wavelengths.
+    main_labels : tuple of str
+        The candidate's main beams (from its nominal figures).
+
+    Returns
+    -------
+    Margin or None
+        "split over temperature": the worst on-axis split at either end of the range (the
+        linear thermo-optic model makes the split monotonic in T, so the ends bound it), its
+        margin to the tolerance; NaN with a reason when a piece has no dn/dT. None when the
+        requirement gives no temperature range, its target is not a split, or fewer than two
+        beams leave the prism (the assessment already says so).
+    """
+    span = requirement.temperature_range_c
+    if span is None or requirement.target_kind != "split" or len(main_labels) != 2:
+        return None
+    target, tol = requirement.target_value, requirement.target_tolerance
+    name = "split over temperature"
+    missing = sorted({getattr(p.material, "name", "?") for p in prism.pieces
+                      if not has_thermo_optic_data(p.material)})
+    if missing:
+        return Margin(name, np.nan, target, np.nan, "deg", tol,
+                      f"no thermo-optic data for {', '.join(missing)}: the split cannot be "
+                      f"held over {span[0]:g}-{span[1]:g} °C")
+    result = temperature_dependence(prism, span, requirement.wavelengths_um,
+                                    main_labels=main_labels)
+    error = np.abs(result.split_deg - target)
+    if np.any(np.isnan(error)):
+        return Margin(name, np.nan, target, np.nan, "deg", tol,
+                      f"a main beam is lost between {span[0]:g} and {span[1]:g} °C")
+    worst = np.unravel_index(np.argmax(error), error.shape)
+    return Margin(name, float(result.split_deg[worst]), target, tol - float(error[worst]),
+                  "deg", tol)
