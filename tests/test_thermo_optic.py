@@ -283,3 +283,17 @@ def test_operating_range_adds_a_split_over_temperature_margin():
     sapphire = {m.name: m for m in pd.design.assess(pd.prisms.wollaston("sapphire", 60.0),
                                                     need).margins}["split over temperature"]
     assert np.isnan(sapphire.margin) and "no thermo-optic data for sapphire" in sapphire.reason
+
+
+def test_a_chunked_sweep_equals_one_trace(calcite_wollaston, monkeypatch):
+    # Temperatures are sample axes: when the trace is split into chunks (memory limit), each
+    # chunk must carry its own slice of them.
+    from prismdesign.analysis import memory
+
+    temps = np.linspace(0.0, 60.0, 7)
+    lam = np.linspace(0.45, 1.0, 9)
+    whole = temperature_dependence(calcite_wollaston, temps, lam, piece=1)
+    monkeypatch.setattr(memory, "MEMORY_LIMIT_BYTES", 4 * 5 * memory.trace_bytes_per_ray(
+        calcite_wollaston))
+    chunked = temperature_dependence(calcite_wollaston, temps, lam, piece=1)
+    assert np.array_equal(whole.split_deg, chunked.split_deg)
