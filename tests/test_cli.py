@@ -99,8 +99,8 @@ def test_index_header_names_dataset_and_temperature(capsys):
 
 @pytest.mark.parametrize("argv, pattern", [
     # Before: a table headed "at 500 C" holding 20 °C values.
-    (["index", "calcite", "--temperature", "500"],
-     "--temperature 500: calcite (ghosh-1999) has no thermo-optic data, its indices hold at "
+    (["index", "sapphire", "--temperature", "500"],
+     "--temperature 500: sapphire (malitson-1972) has no thermo-optic data, its indices hold at "
      "20 C only; leave out --temperature"),
     (["index", "yvo4", "--temperature", "50"],
      "yvo4 (lomheim-1978) has no thermo-optic data, its indices hold at 20 C only; dataset "

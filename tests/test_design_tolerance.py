@@ -96,7 +96,7 @@ def test_errors_reject_unknown_names_and_temperature_without_data(wollaston):
     with pytest.raises(ValueError, match="face9_angle_deg"):
         apply_errors(wollaston, {"face9_angle_deg": 0.1})
     with pytest.raises(ValueError, match="thermo-optic data"):
-        apply_errors(wollaston, {"temperature_change_c": 1.0})
+        apply_errors(pd.prisms.wollaston("sapphire", 10.0), {"temperature_change_c": 1.0})
     with pytest.raises(ValueError, match="distribution"):
         Tolerance("face1_angle_deg", "triangular", 0.1)
     with pytest.raises(ValueError, match="positive"):
@@ -258,7 +258,7 @@ def test_temperature_sweep_slope_equals_closed_form():
     # Linear dn/dT: the split is nearly linear in T over 20 °C.
     assert slope == pytest.approx(closed, rel=1e-3)
     with pytest.raises(ValueError, match="no thermo-optic data"):
-        temperature_sweep(pd.prisms.wollaston("calcite", 10.0), req, [20.0, 30.0])
+        temperature_sweep(pd.prisms.wollaston("sapphire", 10.0), req, [20.0, 30.0])
 
 
 # ---------------------------------------------------------------- the allocation example

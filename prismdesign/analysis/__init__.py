@@ -1,5 +1,6 @@
 """Analyses of a prism: deviation and split, separation on a plane, transmission, extinction,
-Jones and Mueller matrices, field of view, interference (OPD, shear, fringe localisation).
+Jones and Mueller matrices, field of view, interference (OPD, shear, fringe localisation),
+split and deviations versus temperature.
 Every function takes a prism and broadcasts over wavelength, incidence angle and entry point."""
 from ._common import (BELOW_POWER_FLOOR, LOST_FLAGS, LOST_POWER_FLOOR, MissingBeamWarning,
                       describe_lost, lost_codes)
@@ -13,6 +14,7 @@ from .interference import (Localisation, fringe_localisation, main_beams,
                            optical_path_difference, shear_mm, small_angle_estimates)
 from .jones import JonesResult, jones_matrices, mueller_from_jones, stokes_from_jones
 from .separation import SeparationResult, gaussian_beam_radius_mm, separation
+from .temperature import TemperatureResult, temperature_dependence
 from .transmission import TransmissionResult, transmission
 
 __all__ = [
@@ -27,6 +29,7 @@ __all__ = [
     "JonesResult",
     "SeparationResult",
     "SplitResult",
+    "TemperatureResult",
     "TransmissionResult",
     "extinction",
     "gaussian_beam_radius_mm",
@@ -37,6 +40,7 @@ __all__ = [
     "split",
     "split_angle_deg",
     "stokes_from_jones",
+    "temperature_dependence",
     "transmission",
     "wollaston_small_angle_split_deg",
 ]

@@ -181,8 +181,11 @@ def warn_missing(message):
 
 
 def prism_sample_shape(prism):
-    """Broadcast shape of the sample axes carried by a prism's optic axes (() when none)."""
+    """Broadcast shape of the sample axes carried by a prism's optic axes and temperatures
+    (() when none)."""
     shapes = [np.shape(p.optic_axis)[:-1] for p in prism.pieces if p.optic_axis is not None]
+    shapes += [np.shape(t) for t in (prism.temperature_c,
+                                     *(p.temperature_c for p in prism.pieces)) if t is not None]
     try:
         return np.broadcast_shapes(*shapes) if shapes else ()
     except ValueError:

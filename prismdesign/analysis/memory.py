@@ -110,16 +110,24 @@ def check_fits(what, estimate_bytes, detail, remedy):
 
 
 def _flat_prism(prism, shape, start, stop):
-    """The prism with its optic-axis samples broadcast to `shape`, flattened and sliced."""
+    """The prism with its optic-axis and temperature samples broadcast to `shape`, flattened
+    and sliced like the rays of the chunk."""
     from dataclasses import replace
+
+    def flat_temperature(t):
+        if t is None or np.ndim(t) == 0:
+            return t
+        return np.broadcast_to(t, shape).reshape(-1)[start:stop]
+
     pieces = []
     for piece in prism.pieces:
+        piece = replace(piece, temperature_c=flat_temperature(piece.temperature_c))
         if piece.optic_axis is None or np.ndim(piece.optic_axis) == 1:
             pieces.append(piece)
             continue
         axes = np.broadcast_to(piece.optic_axis, shape + (3,)).reshape(-1, 3)[start:stop]
         pieces.append(replace(piece, optic_axis=axes))
-    return replace(prism, pieces=pieces)
+    return replace(prism, pieces=pieces, temperature_c=flat_temperature(prism.temperature_c))
 
 
 def map_rays(prism, wavelength, in_plane, out_of_plane, offset, per_ray, *, what,

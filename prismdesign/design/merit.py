@@ -319,6 +319,11 @@ def assess(prism, requirement, *, figs=None, localisation_distance_mm=None):
         achieved = float(value[np.nanargmax(np.abs(value - target))]) if np.isfinite(miss) else np.nan
         margins.append(Margin(kind, achieved, target, tol - miss, requirement.target_unit, tol,
                               reason))
+        if requirement.temperature_range_c is not None:
+            from .temperature import temperature_margin   # imports this module: import late
+            held = temperature_margin(prism, requirement, main)
+            if held is not None:
+                margins.append(held)
     elif np.any(figs.lost[main[0]] != ""):
         margins.append(Margin("transmitted beam", np.nan, 1.0, np.nan, "", 1.0,
                               _lost_text(figs, main)))
@@ -359,41 +364,9 @@ def assess(prism, requirement, *, figs=None, localisation_distance_mm=None):
                               worst - requirement.min_clearance_mm, "mm",
                               max(abs(requirement.min_clearance_mm), 0.1),
                               _lost_text(figs, main) if np.isnan(worst) else ""))
-    if requirement.temperature_range_c is not None and kind == "split":
-        margins.append(_temperature_margin(prism, requirement))
     if requirement.wants_localisation and localisation_distance_mm is not None:
         want = requirement.wanted_localisation_mm(prism.boundaries[-1].point_mm[2])
         tol = max(0.01 * abs(want), 0.1)
         margins.append(Margin("localisation distance", localisation_distance_mm, want,
                               tol - abs(localisation_distance_mm - want), "mm", tol))
     return Assessment(figs, tuple(margins))
-
-
-
-#: Temperatures sampled across a requirement's temperature range (ends and middle).
-TEMPERATURE_SAMPLES = 3
-
-
-def _temperature_margin(prism, requirement):
-    """Split over the band and the temperature range against the target (a split target only).
-
-    Uses the pieces' linear thermo-optic models; a piece without one makes the requirement
-    undecidable, which counts as missed with that reason (never a number at the data
-    temperature presented as if it held over the range).
-    """
-    from .perturbation import has_thermo_optic_data
-    from .temperature import temperature_sweep
-
-    target, tol = requirement.split_deg, requirement.target_tolerance
-    missing = sorted({getattr(p.material, "name", "?") for p in prism.pieces
-                      if not has_thermo_optic_data(p.material)})
-    if missing:
-        return Margin("split over temperature", np.nan, target, np.nan, "deg", tol,
-                      f"no thermo-optic data for {', '.join(missing)}")
-    sweep = temperature_sweep(prism, requirement,
-                              np.linspace(*requirement.temperature_range_c, TEMPERATURE_SAMPLES))
-    deviation = np.abs(sweep.split_deg - target)
-    miss = _worst(deviation)
-    achieved = float(sweep.split_deg.flat[np.nanargmax(deviation)]) if np.isfinite(miss) else np.nan
-    return Margin("split over temperature", achieved, target, tol - miss, "deg", tol,
-                  "" if np.isfinite(miss) else "a beam is lost somewhere in the range")

@@ -38,6 +38,7 @@ from dataclasses import dataclass, replace
 import numpy as np
 
 from .._display import shown
+from ..analysis.temperature import has_thermo_optic_data
 from ..optics.vectors import normalize
 
 __all__ = ["Parameter", "InputErrors", "prism_parameters", "parameter", "apply_errors",
@@ -92,14 +93,6 @@ class InputErrors:
     in_plane_deg: object = 0.0
     out_of_plane_deg: object = 0.0
     wavelength_um: object = 0.0
-
-
-def has_thermo_optic_data(material):
-    """True when `material` carries a thermo-optic slope (uniaxial: both indices)."""
-    if getattr(material, "kind", None) == "uniaxial":
-        return (getattr(material, "dn_dt_o_per_c", None) is not None
-                and getattr(material, "dn_dt_e_per_c", None) is not None)
-    return getattr(material, "dn_dt_per_c", None) is not None
 
 
 def reference_temperature_c(prism):
@@ -284,7 +277,11 @@ def apply_errors(prism, errors, *, ray_ndim=0):
         boundaries[j] = replace(b, layer=layer)
     temperature = prism.temperature_c
     if get("temperature_change_c") is not None:
-        temperature = reference_temperature_c(prism) + get("temperature_change_c")
+        change = get("temperature_change_c")
+        temperature = reference_temperature_c(prism) + change
+        # A piece held at its own temperature (Piece.temperature_c) moves by the same change.
+        pieces = [p if p.temperature_c is None else replace(p, temperature_c=p.temperature_c
+                                                               + change) for p in pieces]
     perturbed = replace(prism, pieces=pieces, boundaries=boundaries, temperature_c=temperature)
 
     def offset(name, scale=1.0):

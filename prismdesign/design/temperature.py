@@ -1,22 +1,19 @@
-"""Split and beam deviations of a prism versus temperature, where thermo-optic data exist.
+"""Split and beam deviations of a prism versus temperature at a requirement's wavelengths.
 
-The prism's pieces are evaluated at each temperature through their materials' linear
-thermo-optic model n(λ, T) = n(λ, T0) + dn/dT · (T − T0) (the slopes and their source travel
-with the dispersion data); the surroundings stay at their data temperature and the geometry
-does not expand (thermal expansion changes no angle of a prism cut from one crystal). All
-temperatures trace as one batch. A piece without thermo-optic data is refused: its indices
-would silently stay at the data temperature.
+The physics (one batched trace over temperatures and wavelengths, the refusal of pieces
+without thermo-optic data) lives in :func:`prismdesign.analysis.temperature_dependence`; this
+module picks the requirement's wavelengths and the merit's main beams, so a design and its
+temperature sweep speak of the same beams, and turns a requirement's operating temperature
+range into a margin (:func:`temperature_margin`) that the assessment adds to a split target.
 """
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 
 import numpy as np
 
-from .._display import shown
-from .batch_merit import trace_figures
-from .merit import figures as nominal_figures
-from .perturbation import has_thermo_optic_data
+from ..analysis.temperature import has_thermo_optic_data, temperature_dependence
+from .merit import Margin, figures as nominal_figures
 
-__all__ = ["TemperatureSweep", "temperature_sweep"]
+__all__ = ["TemperatureSweep", "temperature_sweep", "temperature_margin"]
 
 
 @dataclass(frozen=True)
@@ -50,7 +47,7 @@ def temperature_sweep(prism, requirement, temperature_c):
     requirement : Requirement
         Wavelengths (on axis).
     temperature_c : array_like, shape (t,)
-        Temperatures (°C); outside a material's dn/dT range the material warns.
+        At least two temperatures (°C); outside a material's dn/dT range the material warns.
 
     Returns
     -------
@@ -61,27 +58,51 @@ def temperature_sweep(prism, requirement, temperature_c):
     ValueError
         When a piece's material has no thermo-optic data.
     """
+    main = nominal_figures(prism, requirement).main_labels
+    result = temperature_dependence(prism, temperature_c, requirement.wavelengths_um,
+                                    main_labels=main if len(main) == 2 else None)
+    split_deg = result.split_deg if len(result.main_labels) == 2 else None
+    return TemperatureSweep(result.temperature_c, result.wavelength_um, split_deg,
+                            dict(result.deviation_deg), result.valid_range_c)
+
+
+def temperature_margin(prism, requirement, main_labels):
+    """How well a split target holds over the requirement's operating temperature range.
+
+    Parameters
+    ----------
+    prism : Prism
+    requirement : Requirement
+        Its `temperature_range_c` (°C), split target and tolerance, and wavelengths.
+    main_labels : tuple of str
+        The candidate's main beams (from its nominal figures).
+
+    Returns
+    -------
+    Margin or None
+        "split over temperature": the worst on-axis split at either end of the range (the
+        linear thermo-optic model makes the split monotonic in T, so the ends bound it), its
+        margin to the tolerance; NaN with a reason when a piece has no dn/dT. None when the
+        requirement gives no temperature range, its target is not a split, or fewer than two
+        beams leave the prism (the assessment already says so).
+    """
+    span = requirement.temperature_range_c
+    if span is None or requirement.target_kind != "split" or len(main_labels) != 2:
+        return None
+    target, tol = requirement.target_value, requirement.target_tolerance
+    name = "split over temperature"
     missing = sorted({getattr(p.material, "name", "?") for p in prism.pieces
                       if not has_thermo_optic_data(p.material)})
     if missing:
-        raise ValueError(f"no thermo-optic data for {', '.join(missing)}: a temperature sweep "
-                         f"needs dn/dT of every piece (e.g. yvo4 has it)")
-    try:
-        if isinstance(temperature_c, (str, bytes)):
-            raise TypeError
-        t = np.atleast_1d(np.asarray(temperature_c, dtype=float))
-    except (TypeError, ValueError):
-        raise ValueError(f"temperature_c must be numbers (°C), got {shown(temperature_c)}") \
-            from None
-    if t.ndim != 1 or not np.all(np.isfinite(t)) or np.any(t < -273.15):
-        raise ValueError(f"temperature_c must be finite temperatures above -273.15 °C in one "
-                         f"list, got {shown(temperature_c)}")
-    main = nominal_figures(prism, requirement).main_labels
-    hot = replace(prism, temperature_c=t[:, None])
-    lam = requirement.wavelengths_um
-    figs = trace_figures(hot, lam[None, :], 0.0, 0.0, main, plane_z_mm=prism.exit_z_mm)
-    ranges = [getattr(p.material, "thermo_range_c", None) for p in prism.pieces]
-    valid = None
-    if all(r is not None for r in ranges):
-        valid = (max(r[0] for r in ranges), min(r[1] for r in ranges))
-    return TemperatureSweep(t, lam, figs.split_deg, dict(figs.deviation_deg), valid)
+        return Margin(name, np.nan, target, np.nan, "deg", tol,
+                      f"no thermo-optic data for {', '.join(missing)}: the split cannot be "
+                      f"held over {span[0]:g}-{span[1]:g} °C")
+    result = temperature_dependence(prism, span, requirement.wavelengths_um,
+                                    main_labels=main_labels)
+    error = np.abs(result.split_deg - target)
+    if np.any(np.isnan(error)):
+        return Margin(name, np.nan, target, np.nan, "deg", tol,
+                      f"a main beam is lost between {span[0]:g} and {span[1]:g} °C")
+    worst = np.unravel_index(np.argmax(error), error.shape)
+    return Margin(name, float(result.split_deg[worst]), target, tol - float(error[worst]),
+                  "deg", tol)

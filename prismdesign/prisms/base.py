@@ -90,11 +90,15 @@ class Piece:
     optic_axis : array_like, shape (3,), optional
         Unit optic axis in the global frame; required for uniaxial materials.
     label : str
+    temperature_c : float or ndarray, optional
+        Temperature of this piece (°C), overriding the prism's :attr:`Prism.temperature_c`;
+        None follows the prism. An array carries leading sample axes like the prism's.
     """
 
     material: object
     optic_axis: object = None
     label: str = ""
+    temperature_c: object = None
 
     def __post_init__(self):
         if self.optic_axis is not None:
@@ -103,9 +107,28 @@ class Piece:
             raise ValueError(f"piece {self.label or self.material.name!r} of uniaxial "
                              f"{self.material.name} needs an optic_axis")
 
+        if self.temperature_c is not None:
+            object.__setattr__(self, "temperature_c",
+                               _check_temperature("temperature_c", self.temperature_c))
+
     @property
     def is_crystal(self):
         return self.optic_axis is not None and getattr(self.material, "kind", "") == "uniaxial"
+
+
+def _check_temperature(name, value):
+    """`value` as a float or float array of finite temperatures above absolute zero (°C)."""
+    try:
+        if isinstance(value, (str, bytes, bool, np.bool_)):
+            raise TypeError
+        t = np.asarray(value, dtype=float)
+    except (TypeError, ValueError):
+        raise ValueError(f"{name} must be a temperature in °C (a number or an array of "
+                         f"numbers), got {shown(value)}") from None
+    if t.size == 0 or not np.all(np.isfinite(t)) or np.any(t < -273.15):
+        raise ValueError(f"{name} must be finite temperatures above -273.15 °C, got "
+                         f"{shown(value)}")
+    return float(t) if t.ndim == 0 else t
 
 
 @dataclass(frozen=True)
@@ -206,7 +229,8 @@ class Prism:
     temperature_c : float or ndarray, optional
         Temperature of the pieces (°C; the surroundings stay at their data temperature); None
         means each material's data temperature. An array carries leading sample axes
-        (perturbed prisms), as may the optic axes and boundary points and normals.
+        (perturbed prisms), as may the optic axes and boundary points and normals. A piece
+        with its own :attr:`Piece.temperature_c` keeps it (see :meth:`at_temperature`).
     """
 
     kind: str
@@ -303,13 +327,62 @@ class Prism:
                       for b in self.boundaries]
         return replace(self, boundaries=boundaries)
 
+    def at_temperature(self, temperature_c, piece=None):
+        """The same prism with every piece, or the given pieces, at `temperature_c`.
+
+        Parameters
+        ----------
+        temperature_c : float or ndarray
+            Temperature (°C); an array carries leading sample axes that must broadcast against
+            the ray inputs of a trace (e.g. shape (t, 1) against wavelengths of shape (n,)).
+        piece : int or sequence of int, optional
+            Index of the piece (or pieces) to set, counted from the entrance; the others keep
+            their temperature. None sets the whole prism: every piece, clearing any piece's own.
+
+        Returns
+        -------
+        Prism
+            Indices follow each material's linear thermo-optic model (materials without one
+            warn and keep their data-temperature indices); the geometry does not change.
+        """
+        t = _check_temperature("temperature_c", temperature_c)
+        if piece is None:
+            pieces = [replace(p, temperature_c=None) for p in self.pieces]
+            return replace(self, pieces=pieces, temperature_c=t)
+        chosen = self.piece_indices(piece)
+        pieces = [replace(p, temperature_c=t) if i in chosen else p
+                  for i, p in enumerate(self.pieces)]
+        return replace(self, pieces=pieces)
+
+    def piece_indices(self, piece):
+        """`piece` (an index or a sequence of indices) as a sorted tuple of valid piece indices,
+        or a one-line ValueError naming the allowed range."""
+        values = [piece] if np.ndim(piece) == 0 else list(np.asarray(piece, dtype=object))
+        count = len(self.pieces)
+        out = set()
+        for v in values:
+            if isinstance(v, (bool, np.bool_)) or not isinstance(v, (int, np.integer)) \
+                    or not 0 <= int(v) < count:
+                raise ValueError(f"piece must be a piece index from 0 to {count - 1} (or a list "
+                                 f"of them), got {shown(piece)}")
+            out.add(int(v))
+        if not out:
+            raise ValueError(f"piece must name at least one piece (0 to {count - 1}), got "
+                             f"{shown(piece)}")
+        return tuple(sorted(out))
+
+    def piece_temperatures_c(self):
+        """Temperature of each piece as traced (°C, or None for the data temperature)."""
+        return [p.temperature_c if p.temperature_c is not None else self.temperature_c
+                for p in self.pieces]
+
     # ----------------------------------------------------------------- tracing
     def media(self):
         """Media in order: surroundings, each piece, surroundings."""
         outside = Medium(self.surround)
-        return [outside] + [Medium(p.material, p.optic_axis if p.is_crystal else None,
-                                   self.temperature_c)
-                            for p in self.pieces] + [outside]
+        return [outside] + [Medium(p.material, p.optic_axis if p.is_crystal else None, t)
+                            for p, t in zip(self.pieces, self.piece_temperatures_c())] \
+            + [outside]
 
     def system(self):
         """The prism as a :class:`~prismdesign.optics.SequentialSystem`.
