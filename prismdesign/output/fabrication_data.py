@@ -534,8 +534,8 @@ def _axis_description(c, n_in, n_out, name_in, name_out):
 
 def _coating_text(boundary, prism, band):
     if boundary.coated:
-        return (f"antireflection coated for {band} (modelled as an ideal single layer, zero "
-                f"reflectance at normal incidence; state the residual reflectance with the coater)")
+        return (f"antireflection coated for {band} (an ideal single layer in the model: agree "
+                f"the residual reflectance with the coater)")
     return "uncoated, polished"
 
 
@@ -633,7 +633,7 @@ def fabrication_data(prism, tolerances=None, *, notes="", requirement=None, surf
                     rotation_deg=turn)
         for i, (piece, polygon) in zip(members, sub.outline()):
             pieces.append(_piece_sheet(prism, i, piece, polygon, turn, width, height, names,
-                                       tol, spec, band))
+                                       tol, spec, band, [prism.pieces[g] for g in gap]))
     for j in range(1, len(prism.boundaries) - 1):
         left, right = prism.pieces[j - 1], prism.pieces[j]
         if j - 1 in gap or j in gap:
@@ -653,6 +653,10 @@ def fabrication_data(prism, tolerances=None, *, notes="", requirement=None, surf
         turn2 = float(prism.parameters.get("rotation_deg", 0.0))
         assembly.append(f"Two prisms in series: prism 2 is turned {turn2:.2f}° about the beam "
                         f"axis (z) from prism 1; each piece is drawn in its own prism's frame.")
+    if prism.kind.startswith("glan"):
+        assembly.append("The rejected beam leaves through a side face of the first wedge: "
+                        "polish that face and send the beam into a dump, or grind and blacken "
+                        "it, as the mount design needs.")
     order = ", ".join(p.label for p in pieces)
     assembly.append(f"Order along the beam: {order}.")
     assembly.append(f"Overall length along the beam (section at the centre line): "
@@ -717,8 +721,9 @@ def fabrication_data(prism, tolerances=None, *, notes="", requirement=None, surf
                            laser_caution=LASER_CAUTION)
 
 
-def _piece_sheet(prism, i, piece, polygon, turn, width, height, names, tol, spec, band):
-    """The sheet of piece i (boundaries i and i+1), in its prism's frame turned by `turn`."""
+def _piece_sheet(prism, i, piece, polygon, turn, width, height, names, tol, spec, band, spaces):
+    """The sheet of piece i (boundaries i and i+1), in its prism's frame turned by `turn`;
+    `spaces` are the pieces that are spaces between prisms in series."""
     if len(polygon) < 3:
         raise ValueError(f"piece {i} ({piece.label}) has no extent inside the clear aperture; "
                          f"cannot draw it")
@@ -765,7 +770,10 @@ def _piece_sheet(prism, i, piece, polygon, turn, width, height, names, tol, spec
         clear.append((name, f"{along:.2f} × {height:.2f} mm (centred; {width:.2f} mm across "
                             f"the beam)" if abs(n[2]) < 1 - 1e-12 else
                       f"{width:.2f} × {height:.2f} mm (centred)"))
-        outer = j in (0, len(prism.boundaries) - 1) or b.coated
+        # Outer faces meet the surroundings: the ends, and the faces beside a space between
+        # prisms in series.
+        outer = (j in (0, len(prism.boundaries) - 1) or b.coated
+                 or any(prism.pieces[j - 1 if j == i else j] is g for g in spaces))
         coatings.append((name, _coating_text(b, prism, band) if outer else
                          "internal face: no coating (joined as stated)"))
         tilt_limit, _ = tol.limit(f"face{j}_angle_deg")

@@ -32,7 +32,6 @@ SHEET_FORMATS = (".svg", ".pdf")
 
 _PAGE_W_IN = 16.54          # A3 landscape width; the height grows with the number of pieces
 _HEADER_IN = 3.3
-_CARD_IN = 4.9
 _NOTES_IN = 2.9
 _INK = "#1a1a1a"
 _DIM = "#1f4e79"
@@ -92,69 +91,75 @@ def write_fabrication_sheet(prism, path, *, tolerances=None, notes="", requireme
 
 # ---------------------------------------------------------------------------- layout
 def sheet_figure(prism, data):
-    """The sheet as a :class:`matplotlib.figure.Figure` (for viewing or other formats)."""
-    cards = len(data.pieces)
-    rows = (cards + 1) // 2
-    height = _HEADER_IN + rows * _CARD_IN + _NOTES_IN + 0.7
+    """The sheet as a :class:`matplotlib.figure.Figure` (for viewing or other formats).
+
+    Parameters
+    ----------
+    prism : Prism
+    data : FabricationData
+        From :func:`fabrication_data` for the same prism.
+    """
+    margin = 0.3
+    inner = _PAGE_W_IN - 2 * margin
+    card_w = 0.5 * inner
+    # Each row of two cards is as tall as its longer table.
+    rows = [data.pieces[k:k + 2] for k in range(0, len(data.pieces), 2)]
+    row_h = [max(_card_height(p, card_w) for p in row) for row in rows]
+    height = _HEADER_IN + sum(row_h) + _NOTES_IN + 0.75
     fig = new_figure(figsize=(_PAGE_W_IN, height))
     frame = fig.add_axes([0, 0, 1, 1])
     frame.set_axis_off()
     frame.set_xlim(0, _PAGE_W_IN)
     frame.set_ylim(0, height)
 
-    def box(x, y, w, h):
-        frame.add_patch(_rect(x, y, w, h))
-
-    margin = 0.3
-    # Header: title and assembly.
+    # Header: title, then the assembly section beside its description.
     top = height - margin
     frame.text(margin + 0.1, top - 0.3, data.title, fontsize=15, weight="bold", color=_INK,
                va="baseline")
     frame.text(margin + 0.1, top - 0.55,
-               f"design wavelength {1e3 * data.design_wavelength_um:g} nm; all lengths in mm, "
-               f"angles in degrees; x: split direction (principal section), y: across it, "
-               f"z: along the beam", fontsize=8.5, color=_INK, va="baseline")
+               f"design wavelength {1e3 * data.design_wavelength_um:g} nm; lengths in mm, angles "
+               f"in degrees; x: split direction (in the principal section), y: across it, z: "
+               f"along the beam", fontsize=8.5, color=_INK, va="baseline")
     header_h = _HEADER_IN - 0.75
     header_y = top - 0.75 - header_h
-    box(margin, header_y, _PAGE_W_IN - 2 * margin, header_h)
-    ax = _axes_in(fig, height, margin + 0.15, header_y + 0.15, 7.6, header_h - 0.3)
-    _assembly_view(ax, prism, data)
-    lines = ["Assembly"] + list(data.assembly) + ["Joints"] + \
-        [j.text for j in data.joints] if data.joints else ["Assembly"] + list(data.assembly)
-    if not data.joints:
-        lines += ["Joints", "single piece: none"]
-    _text_block(frame, lines, margin + 8.0, header_y + header_h - 0.2, _PAGE_W_IN - 8.6,
-                headings={"Assembly", "Joints"}, size=8.0)
+    frame.add_patch(_rect(margin, header_y, inner, header_h))
+    view_w = 7.4
+    ax = _axes_in(fig, height, margin + 0.1, header_y + 0.1, view_w, header_h - 0.2)
+    _assembly_view(ax, prism, data, view_w, header_h - 0.2)
+    lines = ["Assembly", *data.assembly, "Joints"]
+    lines += [j.text for j in data.joints] or ["single piece: no joints"]
+    _text_block(frame, lines, margin + view_w + 0.4, header_y + header_h - 0.15,
+                inner - view_w - 0.6, headings={"Assembly", "Joints"}, size=8.5)
 
     # Piece cards, two per row.
-    card_w = 0.5 * (_PAGE_W_IN - 2 * margin)
-    for k, piece in enumerate(data.pieces):
-        row, col = divmod(k, 2)
-        x0 = margin + col * card_w
-        y0 = header_y - (row + 1) * _CARD_IN
-        box(x0, y0, card_w, _CARD_IN)
-        _piece_card(fig, frame, height, piece, x0, y0, card_w, k)
+    y_top = header_y
+    for r, row in enumerate(rows):
+        for col, piece in enumerate(row):
+            x0 = margin + col * card_w
+            frame.add_patch(_rect(x0, y_top - row_h[r], card_w, row_h[r]))
+            _piece_card(fig, frame, height, piece, x0, y_top, card_w, 2 * r + col)
+        y_top -= row_h[r]
 
-    # Notes and caution.
-    notes_y = header_y - rows * _CARD_IN - _NOTES_IN
-    box(margin, notes_y, _PAGE_W_IN - 2 * margin, _NOTES_IN)
-    note_lines = ["Tolerances", data.tolerance_note]
+    # Notes: tolerances, ISO meaning, crystal quality | dispersion data, notes, laser caution.
+    notes_y = y_top - _NOTES_IN
+    frame.add_patch(_rect(margin, notes_y, inner, _NOTES_IN))
+    left = ["Tolerances", data.tolerance_note]
     if data.other_tolerances:
-        note_lines.append("Use conditions (not for the shop): " + "; ".join(data.other_tolerances))
-    note_lines += ["ISO 10110 callouts"] + list(data.iso_notes)
-    note_lines += ["Crystal quality", data.crystal_quality.replace("Crystal quality: ", "")]
-    half = 0.5 * (_PAGE_W_IN - 2 * margin)
-    _text_block(frame, note_lines, margin + 0.15, notes_y + _NOTES_IN - 0.2, half - 0.3,
+        left.append("Use conditions (not for the shop): " + "; ".join(data.other_tolerances))
+    left += ["ISO 10110 callouts", *data.iso_notes,
+             "Crystal quality", data.crystal_quality.replace("Crystal quality: ", "")]
+    half = 0.5 * inner
+    _text_block(frame, left, margin + 0.15, notes_y + _NOTES_IN - 0.12, half - 0.3,
                 headings={"Tolerances", "ISO 10110 callouts", "Crystal quality"}, size=7.5)
-    right = ["Dispersion data used"] + list(data.dispersion_sources)
+    right = ["Dispersion data used", *data.dispersion_sources]
     if data.notes:
-        right += ["Notes"] + [data.notes]
+        right += ["Notes", data.notes]
     right += ["Laser caution", data.laser_caution]
-    _text_block(frame, right, margin + half + 0.15, notes_y + _NOTES_IN - 0.2, half - 0.3,
+    _text_block(frame, right, margin + half + 0.15, notes_y + _NOTES_IN - 0.12, half - 0.3,
                 headings={"Dispersion data used", "Notes", "Laser caution"}, size=7.5)
-    frame.text(_PAGE_W_IN - margin, notes_y - 0.25,
+    frame.text(_PAGE_W_IN - margin, notes_y - 0.22,
                "made with prismdesign from the design's own geometry; check every value against "
-               "the design before ordering", fontsize=7, ha="right", color="#555555")
+               "the design before ordering", fontsize=7, ha="right", va="top", color="#555555")
     return fig
 
 
@@ -171,226 +176,311 @@ def _axes_in(fig, page_h, x, y, w, h):
     return ax
 
 
-def _text_block(frame, lines, x, y, width_in, *, headings=(), size=_FONT, leading=1.45):
-    """Wrapped lines from (x, y) down (inches); headings in bold. Returns the lowest y."""
-    chars = max(20, int(width_in * 72.0 / (0.53 * size)))
+def _wrap(line, width_in, size):
+    """Wrap a line to a width in inches at a font size (points), continuation indented."""
+    chars = max(20, int(width_in * 72.0 / (0.54 * size)))
+    return textwrap.wrap(line, chars, subsequent_indent="   ") or [""]
+
+
+def _text_block(frame, lines, x, y, width_in, *, headings=(), size=_FONT, leading=1.42):
+    """Wrapped lines from (x, y) downward (inches); headings in bold. Returns the lowest y."""
     step = size * leading / 72.0
     for line in lines:
         if line in headings:
-            y -= 0.25 * step
+            y -= 0.3 * step
             frame.text(x, y, line, fontsize=size + 0.5, weight="bold", color=_INK, va="top")
             y -= step
             continue
-        for part in textwrap.wrap(line, chars, subsequent_indent="  ") or [""]:
+        for part in _wrap(line, width_in, size):
             frame.text(x, y, part, fontsize=size, color=_INK, va="top")
             y -= step
     return y
 
 
+def _fit(ax, box_mm, size_in, pad_in):
+    """Equal-scale limits showing `box_mm` (z0, z1, x0, x1) with paddings in inches (left,
+    right, bottom, top) inside axes of `size_in` (w, h); returns mm per inch."""
+    z0, z1, x0, x1 = box_mm
+    left, right, bottom, top = pad_in
+    w, h = size_in
+    scale = max((z1 - z0) / max(w - left - right, 0.3), (x1 - x0) / max(h - bottom - top, 0.3))
+    # Centre the drawing in the space left over.
+    extra_w = (w - left - right) * scale - (z1 - z0)
+    extra_h = (h - bottom - top) * scale - (x1 - x0)
+    ax.set_xlim(z0 - left * scale - 0.5 * extra_w, z1 + right * scale + 0.5 * extra_w)
+    ax.set_ylim(x0 - bottom * scale - 0.5 * extra_h, x1 + top * scale + 0.5 * extra_h)
+    ax.set_aspect("equal", adjustable="box")
+    return scale
+
+
 # ---------------------------------------------------------------------------- views
-def _assembly_view(ax, prism, data):
-    """All pieces side by side along z, each in its own prism's frame, with overall lengths."""
+def _assembly_view(ax, prism, data, w_in, h_in):
+    """All pieces at their places along z, each in its own prism's frame, numbered."""
     from matplotlib.patches import Polygon
 
-    z_shift = 0.0
-    previous_end = None
-    for k, piece in enumerate(data.pieces):
-        poly = piece.polygon_mm
-        start = _piece_start_z(prism, piece)
-        if previous_end is not None and k and data.pieces[k - 1].frame_deg != piece.frame_deg:
-            # Next prism of a series: keep its real spacing along z.
-            z_shift = 0.0
-        zs = poly[:, 0] + z_shift
-        ax.add_patch(Polygon(np.column_stack([zs, poly[:, 1]]), closed=True,
-                             facecolor=_FILL[k % len(_FILL)], edgecolor=_INK, lw=1.0))
-        centre = np.array([zs.mean(), poly[:, 1].mean()])
-        ax.text(centre[0], centre[1], f"{k + 1}", fontsize=10, weight="bold", ha="center",
-                va="center", color=_INK)
-        _axis_symbol(ax, piece, centre + [0, -0.28 * piece.width_mm], 0.18 * piece.width_mm)
-        previous_end = zs.max()
-        del start
-    ax.set_aspect("equal")
     z_all = np.concatenate([p.polygon_mm[:, 0] for p in data.pieces])
     x_all = np.concatenate([p.polygon_mm[:, 1] for p in data.pieces])
-    lo, hi = z_all.min(), z_all.max()
-    top = x_all.max()
-    span = max(hi - lo, x_all.max() - x_all.min())
-    _dim_line(ax, (lo, top + 0.12 * span), (hi, top + 0.12 * span),
-              f"{prism.length_mm:.3f} overall", (lo, top), (hi, top))
-    ax.text(lo, x_all.min() - 0.1 * span,
-            "principal section (x–z), pieces numbered as their cards; arrows: optic axis "
-            "in the drawing, ⊙: across it", fontsize=7, va="top", color="#444444")
-    ax.set_xlim(lo - 0.08 * span, hi + 0.08 * span)
-    ax.set_ylim(x_all.min() - 0.25 * span, top + 0.3 * span)
+    lo, hi = float(z_all.min()), float(z_all.max())
+    s = _fit(ax, (lo, hi, x_all.min(), x_all.max()), (w_in, h_in), (0.3, 0.3, 0.55, 0.45))
+    for k, piece in enumerate(data.pieces):
+        poly = piece.polygon_mm
+        ax.add_patch(Polygon(poly, closed=True, facecolor=_FILL[k % len(_FILL)],
+                             edgecolor=_INK, lw=1.0))
+        centre = _centroid(poly)
+        ax.text(centre[0], centre[1] + 0.16 * s, f"{k + 1}", fontsize=10, weight="bold",
+                ha="center", va="bottom", color=_INK)
+        _axis_symbol(ax, piece, centre - [0, 0.12 * s], min(0.22 * s, 0.3 * piece.width_mm),
+                     poly)
+    top = float(x_all.max())
+    _dim_line(ax, (lo, top + 0.22 * s), (hi, top + 0.22 * s), f"{prism.length_mm:.3f} mm overall",
+              (lo, top), (hi, top), s)
+    ax.text(lo, float(x_all.min()) - 0.12 * s,
+            "principal section (x–z) at the centre line, beam from the left; pieces numbered as "
+            "their cards; red arrow: optic axis in the drawing plane, ⊙: axis component across it",
+            fontsize=7, va="top", color="#444444")
 
 
-def _piece_start_z(prism, piece):
-    return float(piece.polygon_mm[:, 0].min())
+_VIEW_IN = 2.45
+_CARD_TEXT = dict(size=7.0, leading=1.36)
+_CARD_HEADS = {"Optic axis", "Angles", "Lengths", "Optical faces"}
 
 
-def _piece_card(fig, frame, page_h, piece, x0, y0, w, k):
-    """One piece: section, end view and its table."""
-    frame.text(x0 + 0.15, y0 + _CARD_IN - 0.12,
-               f"Piece {k + 1}: {piece.label} — {piece.dataset_label}", fontsize=10,
-               weight="bold", va="top", color=_INK)
-    view_h = 2.35
-    sec = _axes_in(fig, page_h, x0 + 0.1, y0 + _CARD_IN - 0.45 - view_h, 0.56 * w, view_h)
-    _section_view(sec, piece)
-    end = _axes_in(fig, page_h, x0 + 0.6 * w, y0 + _CARD_IN - 0.45 - view_h, 0.38 * w, view_h)
-    _end_view(end, piece)
-    lines = [f"Optic axis: {piece.axis_words}"]
-    if piece.axis_angles:
-        lines.append("Axis angles: " + "; ".join(f"{name} {value:.3f}°"
-                                                 for name, value in piece.axis_angles))
-        lines.append(piece.axis_tolerance)
-    lines.append("Angles: " + "; ".join(f"{a.faces[0]} / {a.faces[1]} {a.text()}"
-                                        + (" (wedge, ref.)" if a.reference else "")
-                                        for a in piece.angles))
-    lines.append("Lengths: " + "; ".join(f"{d.name} {d.text()}" for d in piece.lengths))
+def _card_lines(piece):
+    """The two text columns of a piece's card."""
+    left = ["Optic axis", piece.axis_words]
+    for name, value in piece.axis_angles:
+        left.append(f"{name}: {value:.3f}°")
+    if piece.crystal:
+        left.append(piece.axis_tolerance)
+    left.append("Angles")
+    for a in piece.angles:
+        tag = "  (wedge angle, derived)" if a.reference else ""
+        left.append(f"{a.faces[0]} to {a.faces[1]}: {a.text()}{tag}")
+    right = ["Lengths"]
+    right += [f"{d.name}: {d.text()}" for d in piece.lengths]
+    right.append("Optical faces")
     for (face, clear), (_, coat), (_, calls) in zip(piece.clear_apertures, piece.coatings,
                                                     piece.callouts):
-        lines.append(f"{face}: clear aperture {clear}; {coat}; " + "   ".join(calls))
-    _text_block(frame, lines, x0 + 0.15, y0 + _CARD_IN - 0.55 - view_h, w - 0.3, size=7.0,
-                leading=1.38)
+        right.append(f"{face}: {'   '.join(calls)}")
+        right.append(f"   clear aperture {clear}; {coat}")
+    return left, right
 
 
-def _section_view(ax, piece):
-    """Principal section of one piece with its dimensions."""
+def _column_width(card_w):
+    return 0.5 * card_w - 0.2
+
+
+def _block_height(lines, width_in, size, leading, headings):
+    step = size * leading / 72.0
+    count = sum(1.3 if line in headings else len(_wrap(line, width_in, size)) for line in lines)
+    return count * step
+
+
+def _card_height(piece, card_w):
+    """Height of a piece's card (inches): title, views and the longer text column."""
+    text = max(_block_height(lines, _column_width(card_w), headings=_CARD_HEADS, **_CARD_TEXT)
+               for lines in _card_lines(piece))
+    return 0.42 + _VIEW_IN + 0.1 + text + 0.15
+
+
+def _piece_card(fig, frame, page_h, piece, x0, y_top, w, k):
+    """One piece, hanging from y_top: title, section, end view and its table."""
+    title = f"Piece {k + 1}: {piece.label} — {piece.dataset_label}"
+    if not piece.crystal:
+        title += " (isotropic)"
+    frame.text(x0 + 0.15, y_top - 0.12, title, fontsize=10.5, weight="bold", va="top",
+               color=_INK)
+    if abs(piece.frame_deg) > 1e-9:
+        frame.text(x0 + w - 0.15, y_top - 0.14, f"drawn in its prism's own frame, turned "
+                   f"{piece.frame_deg:.2f}° about the beam", fontsize=7.5, ha="right", va="top",
+                   color=_AXIS)
+    view_y = y_top - 0.42 - _VIEW_IN
+    sec_w, end_w = 0.6 * w - 0.1, 0.4 * w - 0.2
+    sec = _axes_in(fig, page_h, x0 + 0.1, view_y, sec_w, _VIEW_IN)
+    _section_view(sec, piece, (sec_w, _VIEW_IN))
+    end = _axes_in(fig, page_h, x0 + 0.1 + sec_w + 0.1, view_y, end_w, _VIEW_IN)
+    _end_view(end, piece, (end_w, _VIEW_IN))
+    left, right = _card_lines(piece)
+    col_w = _column_width(w)
+    _text_block(frame, left, x0 + 0.15, view_y - 0.05, col_w, headings=_CARD_HEADS,
+                **_CARD_TEXT)
+    _text_block(frame, right, x0 + 0.5 * w + 0.05, view_y - 0.05, col_w, headings=_CARD_HEADS,
+                **_CARD_TEXT)
+
+
+def _section_view(ax, piece, size_in):
+    """Principal section of one piece: lengths along both side faces, angles at the corners
+    that are not square, face names along the faces, optic axis."""
     from matplotlib.patches import Polygon
 
     poly = piece.polygon_mm
-    z0 = poly[:, 0].min()
-    pts = poly - [z0, 0.0]
-    ax.add_patch(Polygon(pts, closed=True, facecolor=_FILL[0], edgecolor=_INK, lw=1.2))
+    pts = poly - [poly[:, 0].min(), 0.0]
     half = 0.5 * piece.width_mm
-    span = max(np.ptp(pts[:, 0]), piece.width_mm)
-    off = 0.1 * span
-    # Lengths along the side faces (above: +x, below: −x).
-    for side, x_side, sign in ((1, half, 1.0), (0, -half, -1.0)):
-        on = pts[np.abs(pts[:, 1] - x_side) < 1e-9 * (1 + span)]
+    s = _fit(ax, (0.0, pts[:, 0].max(), -half, half), size_in, (1.05, 1.05, 0.72, 0.62))
+    ax.add_patch(Polygon(pts, closed=True, facecolor=_FILL[0], edgecolor=_INK, lw=1.2))
+    tol = 1e-9 * (1.0 + np.abs(pts).max())
+    # Lengths along the side faces: +x above, −x below, clear of the corner angle labels.
+    for index, x_side, sign in ((1, half, 1.0), (0, -half, -1.0)):
+        on = pts[np.abs(pts[:, 1] - x_side) < tol]
         if len(on) >= 2:
             a, b = on[:, 0].min(), on[:, 0].max()
-            d = piece.lengths[side]
-            _dim_line(ax, (a, x_side + sign * off), (b, x_side + sign * off), d.text(),
-                      (a, x_side), (b, x_side), above=sign > 0)
-    # Width at the left.
-    zl = pts[:, 0].min() - off
-    _dim_line(ax, (zl, -half), (zl, half), piece.lengths[3].text(), (pts[:, 0].min(), -half),
-              (pts[:, 0].min(), half), vertical=True)
-    # Angles that are not right angles, at the corners where they sit.
+            level = x_side + sign * 0.3 * s
+            _dim_line(ax, (a, level), (b, level), piece.lengths[index].text(), (a, x_side),
+                      (b, x_side), s, above=sign > 0)
     for a in piece.angles:
-        if a.reference or abs(a.angle_deg - 90.0) < 1e-6:
-            continue
-        _corner_angle(ax, pts, piece, a, span)
+        if not a.reference and abs(a.angle_deg - 90.0) > 1e-6:
+            _corner_angle(ax, pts, piece, a, s, tol)
     wedge = next(a for a in piece.angles if a.reference)
     if wedge.angle_deg > 1e-6:
-        ax.text(0.5 * pts[:, 0].max(), -half - 2.6 * off,
-                f"wedge {wedge.faces[0]} / {wedge.faces[1]}: {wedge.text()} (ref.)",
-                fontsize=7, ha="center", va="top", color=_DIM)
-    # Face names.
-    for name, side in zip(piece.faces, (0, 1)):
-        zs = pts[:, 0]
-        z_face = zs[pts[:, 1].argmax()] if side == 0 else zs[pts[:, 1].argmax()]
-        del z_face
-    ax.text(pts[:, 0].min(), 0.0, piece.faces[0] + " ", rotation=90, fontsize=6.5,
-            ha="right", va="center", color="#555555")
-    right_z = pts[:, 0].max()
-    ax.text(right_z + 0.02 * span, 0.0, " " + piece.faces[1], rotation=90, fontsize=6.5,
-            ha="left", va="center", color="#555555")
-    centre = pts.mean(axis=0)
-    _axis_symbol(ax, piece, centre, 0.22 * min(np.ptp(pts[:, 0]) + 0.5 * span, piece.width_mm),
-                 label=True)
-    ax.set_aspect("equal")
-    ax.set_xlim(pts[:, 0].min() - 0.35 * span, pts[:, 0].max() + 0.2 * span)
-    ax.set_ylim(-half - 0.42 * span, half + 0.3 * span)
-    ax.set_title("principal section (x–z); beam enters from the left", fontsize=7,
-                 color="#444444", loc="left")
+        ax.text(0.5 * pts[:, 0].max(), -half - 0.5 * s,
+                f"wedge angle {wedge.text()} (follows from the face angles)", fontsize=7, ha="center", va="top",
+                color=_DIM)
+    # Face names along the faces, just outside.
+    for name, face_side in zip(piece.faces, (-1.0, 1.0)):
+        _face_label(ax, pts, name, face_side, half, s, tol)
+    _axis_symbol(ax, piece, _centroid(pts), min(0.3 * piece.width_mm, 0.35 * s), pts)
+    ax.text(ax.get_xlim()[0], ax.get_ylim()[1], "principal section (x–z), beam from the left",
+            fontsize=7, va="top", color="#444444")
 
 
-def _corner_angle(ax, pts, piece, angle, span):
-    """Arc and value of an angle between an optical face and a side face."""
+def _face_label(ax, pts, name, face_side, half, s, tol):
+    """The face's name parallel to it, outside the piece (face_side −1: entrance side)."""
+    # The face is the polygon edge joining the extreme-z vertices on the two side faces.
+    ends = []
+    for x_side in (-half, half):
+        on = pts[np.abs(pts[:, 1] - x_side) < tol]
+        if not len(on):
+            return
+        ends.append(on[on[:, 0].argmin()] if face_side < 0 else on[on[:, 0].argmax()])
+    (za, xa), (zb, xb) = ends
+    angle = np.degrees(np.arctan2(xb - xa, zb - za))
+    angle = angle - 180.0 if angle > 90.0 else angle + 180.0 if angle <= -90.0 else angle
+    mid = np.array([0.5 * (za + zb), 0.5 * (xa + xb)])
+    normal = np.array([xb - xa, -(zb - za)]) / np.hypot(xb - xa, zb - za)
+    normal = normal if normal[0] * face_side > 0 else -normal
+    pos = mid + normal * 0.13 * s
+    ax.text(pos[0], pos[1], name, rotation=angle, rotation_mode="anchor", fontsize=6.8,
+            ha="center", va="center", color="#555555")
+
+
+def _corner_angle(ax, pts, piece, angle, s, tol):
+    """Arc and value (with tolerance) of an angle between an optical face and a side face."""
+    from matplotlib.patches import Arc
+
     face, side = angle.faces
-    x_side = 0.5 * piece.width_mm * (1 if side.endswith("+x") else -1)
-    on = pts[np.abs(pts[:, 1] - x_side) < 1e-9 * (1 + span)]
+    x_side = 0.5 * piece.width_mm * (1.0 if side.endswith("+x") else -1.0)
+    on = pts[np.abs(pts[:, 1] - x_side) < tol]
     if len(on) < 2:
         return
-    # Entrance-side face: the corner at the smaller z; exit-side face: the larger.
-    corner = on[on[:, 0].argmin()] if face == piece.faces[0] else on[on[:, 0].argmax()]
-    r = 0.12 * span
-    ax.plot(*corner, "o", ms=2, color=_DIM)
-    label_z = corner[0] + (0.5 if face == piece.faces[0] else -0.5) * r
-    label_x = corner[1] - np.sign(x_side) * 0.5 * r
-    ax.annotate(angle.text(), xy=corner, xytext=(label_z, label_x + (-1.6 if x_side < 0 else 1.6) * r * 0),
-                fontsize=6.8, color=_DIM, ha="center",
-                va="top" if x_side > 0 else "bottom",
-                arrowprops=None)
+    entrance_side = face == piece.faces[0]
+    corner = on[on[:, 0].argmin()] if entrance_side else on[on[:, 0].argmax()]
+    other = on[on[:, 0].argmax()] if entrance_side else on[on[:, 0].argmin()]
+    # The other edge at this corner runs along the optical face.
+    idx = int(np.argmin(np.hypot(*(pts - corner).T)))
+    neighbours = [pts[idx - 1], pts[(idx + 1) % len(pts)]]
+    along_face = next(p for p in neighbours if np.hypot(*(p - other)) > tol)
+    a1 = np.degrees(np.arctan2(*(other - corner)[::-1]))
+    a2 = np.degrees(np.arctan2(*(along_face - corner)[::-1]))
+    lo, hi = sorted((a1, a2))
+    if hi - lo > 180.0:
+        lo, hi = hi, lo + 360.0
+    # Radius: a fixed size on paper, but inside the shorter edge at this corner.
+    r = min(0.22 * s, 0.8 * np.hypot(*(other - corner)), 0.8 * np.hypot(*(along_face - corner)))
+    ax.add_patch(Arc(corner, 2 * r, 2 * r, theta1=lo, theta2=hi, color=_DIM, lw=0.8))
+    # Label beside the corner, outside the piece: left of entrance-side corners, right of
+    # exit-side ones; above the +x side, below the −x side.
+    dz = (-0.06 if entrance_side else 0.06) * s
+    dx = (0.04 if x_side > 0 else -0.04) * s
+    ax.text(corner[0] + dz, corner[1] + dx, angle.text(), fontsize=7, color=_DIM,
+            ha="right" if entrance_side else "left", va="bottom" if x_side > 0 else "top")
 
 
-def _end_view(ax, piece):
-    """End view looking along +z: x up, y to the right, with the axis projection."""
+def _end_view(ax, piece, size_in):
+    """End view looking along +z from the entrance side: x up, y to the right, with the
+    optic axis projected on the face."""
     from matplotlib.patches import Rectangle
 
     h, w = piece.height_mm, piece.width_mm
+    s = _fit(ax, (-0.5 * h, 0.5 * h, -0.5 * w, 0.5 * w), size_in, (0.35, 0.8, 0.72, 0.62))
     ax.add_patch(Rectangle((-0.5 * h, -0.5 * w), h, w, facecolor=_FILL[1], edgecolor=_INK,
                            lw=1.2))
-    span = max(h, w)
-    off = 0.12 * span
-    _dim_line(ax, (-0.5 * h, -0.5 * w - off), (0.5 * h, -0.5 * w - off), piece.lengths[4].text(),
-              (-0.5 * h, -0.5 * w), (0.5 * h, -0.5 * w), above=False)
-    _dim_line(ax, (0.5 * h + off, -0.5 * w), (0.5 * h + off, 0.5 * w), piece.lengths[3].text(),
-              (0.5 * h, -0.5 * w), (0.5 * h, 0.5 * w), vertical=True, left=False)
+    level = -0.5 * w - 0.3 * s
+    _dim_line(ax, (-0.5 * h, level), (0.5 * h, level), piece.lengths[4].text(),
+              (-0.5 * h, -0.5 * w), (0.5 * h, -0.5 * w), s, above=False)
+    side = 0.5 * h + 0.3 * s
+    _dim_line(ax, (side, -0.5 * w), (side, 0.5 * w), piece.lengths[3].text(),
+              (0.5 * h, -0.5 * w), (0.5 * h, 0.5 * w), s, vertical=True)
     if piece.axis_local is not None:
         cx, cy, cz = piece.axis_local
-        length = 0.35 * span
+        length = 0.32 * min(h, w)
         if np.hypot(cx, cy) > 0.05:
             u = np.array([cy, cx]) / np.hypot(cx, cy)
             ax.annotate("", xy=u * length, xytext=-u * length,
-                        arrowprops=dict(arrowstyle="<|-|>", color=_AXIS, lw=1.4))
+                        arrowprops=dict(arrowstyle="<|-|>", color=_AXIS, lw=1.4,
+                                        shrinkA=0, shrinkB=0))
         if abs(cz) > 0.05:
             ax.plot(0, 0, marker="o", ms=9, mfc="none", mec=_AXIS, mew=1.2)
             ax.plot(0, 0, marker="o", ms=2.5, color=_AXIS)
-        ax.text(0.0, 0.5 * w + 0.06 * span, "optic axis projection", fontsize=6.5, ha="center",
-                va="bottom", color=_AXIS)
-    ax.text(-0.5 * h, -0.5 * w - 2.8 * off, "end view along the beam (from the entrance side):"
-            "\nx up, y to the right", fontsize=6.5, va="top", color="#444444")
-    ax.set_aspect("equal")
-    ax.set_xlim(-0.5 * h - 0.3 * span, 0.5 * h + 0.45 * span)
-    ax.set_ylim(-0.5 * w - 0.55 * span, 0.5 * w + 0.25 * span)
+    ax.text(ax.get_xlim()[0], ax.get_ylim()[1], "end view along the beam, from the entrance "
+            "side\n(x up, y to the right); red: optic axis projected,\n⊙ its component along "
+            "the beam", fontsize=7, va="top", color="#444444")
 
 
-def _axis_symbol(ax, piece, centre, length, label=False):
-    """Double arrow along the axis' projection on the section; ⊙ for a component across it."""
+def _centroid(polygon):
+    """Area centroid of a simple polygon (rows (z, x))."""
+    z, x = polygon[:, 0], polygon[:, 1]
+    cross = z * np.roll(x, -1) - np.roll(z, -1) * x
+    area = 0.5 * cross.sum()
+    if abs(area) < 1e-15:
+        return polygon.mean(axis=0)
+    return np.array([((z + np.roll(z, -1)) * cross).sum(), ((x + np.roll(x, -1)) * cross).sum()]
+                    ) / (6.0 * area)
+
+
+def _axis_symbol(ax, piece, centre, length, polygon):
+    """Double arrow along the axis' projection on the section; ⊙ where it has a component
+    across the section (y). The arrow is shortened until it lies inside the piece."""
+    from matplotlib.path import Path as _Path
+
+    outline = _Path(polygon)
     if piece.axis_local is None:
-        if label:
-            ax.text(*centre, "isotropic", fontsize=7, ha="center", va="center", color=_INK)
+        ax.text(*centre, "isotropic", fontsize=7, ha="center", va="center", color=_INK)
         return
     cx, cy, cz = piece.axis_local
-    shown_any = False
     if np.hypot(cx, cz) > 0.05:
         u = np.array([cz, cx]) / np.hypot(cx, cz)
+        for _ in range(20):
+            if outline.contains_points([centre + u * length, centre - u * length]).all():
+                break
+            length *= 0.85
         ax.annotate("", xy=centre + u * length, xytext=centre - u * length,
-                    arrowprops=dict(arrowstyle="<|-|>", color=_AXIS, lw=1.4))
-        shown_any = True
+                    arrowprops=dict(arrowstyle="<|-|>", color=_AXIS, lw=1.4, shrinkA=0,
+                                    shrinkB=0))
     if abs(cy) > 0.05:
         ax.plot(*centre, marker="o", ms=8, mfc="none", mec=_AXIS, mew=1.2)
         ax.plot(*centre, marker="o", ms=2.2, color=_AXIS)
-        shown_any = True
-    if label and shown_any:
-        ax.text(centre[0], centre[1] - 1.15 * length, "optic axis", fontsize=6.5, ha="center",
-                va="top", color=_AXIS)
 
 
-def _dim_line(ax, a, b, text, ext_a, ext_b, *, above=True, vertical=False, left=True):
-    """A dimension line from a to b with extension lines from the part and the value."""
+def _dim_line(ax, a, b, text, ext_a, ext_b, s, *, above=True, vertical=False):
+    """A dimension line from a to b with extension lines from the part and its value; s is
+    the view's scale (mm per inch) for the text gap."""
     a, b = np.asarray(a, float), np.asarray(b, float)
     for p, q in ((ext_a, a), (ext_b, b)):
         ax.plot([p[0], q[0]], [p[1], q[1]], color=_DIM, lw=0.5)
-    ax.annotate("", xy=b, xytext=a, arrowprops=dict(arrowstyle="<|-|>", color=_DIM, lw=0.8,
-                                                     shrinkA=0, shrinkB=0, mutation_scale=7))
+    if np.hypot(*(b - a)) > 0.2 * s:
+        ax.annotate("", xy=b, xytext=a, arrowprops=dict(arrowstyle="<|-|>", color=_DIM, lw=0.8,
+                                                         shrinkA=0, shrinkB=0, mutation_scale=7))
+    else:
+        # Too short for arrows inside: arrows from outside pointing in (drawing practice).
+        u = (b - a) / max(np.hypot(*(b - a)), 1e-12)
+        for tip, back in ((a, a - 0.15 * s * u), (b, b + 0.15 * s * u)):
+            ax.annotate("", xy=tip, xytext=back, arrowprops=dict(
+                arrowstyle="-|>", color=_DIM, lw=0.8, shrinkA=0, shrinkB=0, mutation_scale=7))
+        ax.plot([a[0], b[0]], [a[1], b[1]], color=_DIM, lw=0.8)
     mid = 0.5 * (a + b)
     if vertical:
-        ax.text(mid[0], mid[1], text + ("  " if left else ""), rotation=90, fontsize=7,
-                ha="right" if left else "left", va="center", color=_DIM)
+        ax.text(mid[0] + 0.05 * s, mid[1], text, rotation=90, fontsize=7, ha="left",
+                va="center", color=_DIM)
     else:
-        ax.text(mid[0], mid[1], text, fontsize=7, ha="center",
+        ax.text(mid[0], mid[1] + (0.03 if above else -0.03) * s, text, fontsize=7, ha="center",
                 va="bottom" if above else "top", color=_DIM)
