@@ -266,8 +266,9 @@ def _positive(name, value):
 
 
 def _num(value):
-    """Compact number for a callout: 0.5, 0.16, 3, 10."""
-    return f"{value:.3g}"
+    """Compact number for a callout, four significant digits at most: 0.5, 0.16, 3, 1064."""
+    return np.format_float_positional(float(value), precision=4, unique=True, fractional=False,
+                                      trim="-")
 
 
 def iso_form_callout(power_fringes, irregularity_fringes):
@@ -525,7 +526,7 @@ def _axis_description(c, n_in, n_out, name_in, name_out):
         # Azimuth of the projection on the entrance-side face, from +x toward ±y.
         proj = c - (c @ n_in) * n_in
         az = float(np.degrees(np.arctan2(abs(proj[1]), abs(proj[0]))))
-        y_word = "+y" if cx * cy >= 0 or abs(cx) < tol else "−y"
+        y_word = "+y" if cy >= 0 else "−y"
         words = (f"oblique: {polar:.2f}° from the normal of the {name_in}; its projection on "
                  f"that face at {az:.2f}° from {x_word} toward {y_word}")
         angles.append((f"azimuth in the {name_in} from the x direction", az))
