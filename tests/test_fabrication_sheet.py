@@ -16,6 +16,8 @@ from dataclasses import replace
 
 import numpy as np
 import pytest
+from hypothesis import given, settings
+from hypothesis import strategies as st
 
 from prismdesign import prisms
 from prismdesign.design.perturbation import apply_errors
@@ -140,6 +142,28 @@ def test_sheet_numbers_equal_the_boundary_planes(build):
                 math.degrees(math.asin(min(1.0, abs(float(c @ b0.normal))))), abs=1e-9)
             assert named[f"angle to the {piece.faces[1]}"] == pytest.approx(
                 math.degrees(math.asin(min(1.0, abs(float(c @ b1.normal))))), abs=1e-9)
+
+
+@settings(max_examples=25, deadline=None)
+@given(angles=st.lists(st.floats(-40.0, 40.0), min_size=1, max_size=3),
+       thickness=st.floats(0.3, 5.0), width=st.floats(2.0, 20.0))
+def test_any_stack_reads_back_its_planes(angles, thickness, width):
+    """Property: for any stack of wedges, lengths along the side faces are the distances
+    between the face planes there, and each wedge angle is the angle between the faces'
+    tilts (plane geometry)."""
+    pieces = [("calcite", "y", a, thickness) for a in angles]
+    prism = prisms.free_stack(pieces, width_mm=width)
+    data = fabrication_data(prism)
+    tilts = [0.0] + angles
+    for i, piece in enumerate(data.pieces):
+        b0, b1 = prism.boundaries[i], prism.boundaries[i + 1]
+        wedge = next(a for a in piece.angles if a.reference)
+        assert wedge.angle_deg == pytest.approx(abs(tilts[i + 1] - tilts[i]), abs=1e-7)
+        lengths = [_length(piece, f"length along side face {s}").length_mm for s in ("−x", "+x")]
+        assert lengths == pytest.approx([_face_z(b1, -0.5 * width) - _face_z(b0, -0.5 * width),
+                                         _face_z(b1, 0.5 * width) - _face_z(b0, 0.5 * width)])
+        # The builder's thinnest z-thickness is the shorter side.
+        assert min(lengths) == pytest.approx(thickness)
 
 
 def test_sheet_angles_are_the_polygon_corners():
@@ -301,6 +325,24 @@ def test_svg_keeps_the_numbers_as_text(tmp_path, tolerances):
     # Text is text: no glyph outlines in the file.
     raw = path.read_text(encoding="utf-8")
     assert 'id="DejaVuSans-' not in raw and 'xlink:href="#DejaVuSans-' not in raw
+
+
+def test_every_piece_and_tilted_axis_is_labelled(tmp_path):
+    path = write_fabrication_sheet(prisms.nomarski(axis_tilt_deg=14.8), tmp_path / "n.svg")
+    texts = _svg_texts(path)
+    assert "Piece 1: first wedge — quartz (ghosh-1999)" in texts
+    assert "Piece 2: second wedge — quartz (ghosh-1999)" in texts
+    assert "axis 14.80° to the entrance face" in texts
+    assert {"entrance face", "interface", "exit face"} <= set(texts)
+    double = write_fabrication_sheet(prisms.double_wollaston(), tmp_path / "d.svg")
+    titles = [t for t in _svg_texts(double) if t.startswith("Piece ")]
+    assert len(titles) == 4
+
+
+def test_glan_second_wedge_axis_named_by_its_exit_face():
+    second = fabrication_data(prisms.glan_air_spaced()).pieces[1]
+    assert second.axis_words.startswith("in the exit face, along the width")
+    assert second.axis_face == "exit face"
 
 
 def test_laser_caution_appears_once(tmp_path):

@@ -172,6 +172,8 @@ class PieceSheet:
         sign chosen with z ≥ 0.
     axis_words : str
         The axis direction in words relative to the named faces.
+    axis_face : str
+        The face the words describe the axis against ("" without an axis).
     axis_angles : tuple of (str, float)
         Named angles of the axis (degrees).
     axis_tolerance : str
@@ -200,6 +202,7 @@ class PieceSheet:
     side_faces: tuple
     axis_local: object
     axis_words: str
+    axis_face: str
     axis_angles: tuple
     axis_tolerance: str
     angles: tuple
@@ -499,38 +502,52 @@ def _side_z(point, normal, x):
 
 
 def _axis_description(c, n_in, n_out, name_in, name_out):
-    """Words and named angles for an optic axis c in the piece frame (sign: c_z ≥ 0)."""
+    """Words, named angles and the reference face for an optic axis c in the piece frame.
+
+    The axis is described against the face it lies in, else the face it is perpendicular to,
+    else the face closest to square with the beam (the entrance-side face on a tie), so the
+    words name the face a fabricator orients the crystal by.
+    """
     cx, cy, cz = c
-    out_of_in = float(np.degrees(np.arcsin(np.clip(abs(c @ n_in), 0.0, 1.0))))
-    out_of_out = float(np.degrees(np.arcsin(np.clip(abs(c @ n_out), 0.0, 1.0))))
+    faces = []
+    for name, n in ((name_in, n_in), (name_out, n_out)):
+        faces.append((name, n, float(np.degrees(np.arcsin(np.clip(abs(c @ n), 0.0, 1.0))))))
     out_of_section = float(np.degrees(np.arcsin(np.clip(abs(cy), 0.0, 1.0))))
-    angles = [(f"angle to the {name_in}", out_of_in), (f"angle to the {name_out}", out_of_out),
-              ("angle to the principal section", out_of_section)]
+    angles = [(f"angle to the {name}", value) for name, _, value in faces]
+    angles.append(("angle to the principal section", out_of_section))
     tol = 1e-7
-    x_word = "+x" if cx >= 0 else "−x"
+    lying = [f for f in faces if f[2] < 1e-5]
+    square = [f for f in faces if f[2] > 90.0 - 1e-5]
+    ref = (lying or square or sorted(faces, key=lambda f: -abs(f[1][2]))[:1])[0]
+    name, n, tilt = ref
+    other = faces[1] if ref is faces[0] else faces[0]
     if abs(cy) > 1 - tol:
         words = (f"across the principal section, along the height (y): parallel to the "
                  f"{name_in} and to the {name_out}")
     elif abs(cy) < tol:
-        if out_of_in < 1e-5:
-            words = f"in the {name_in}, along the width (x, in the principal section)"
-        elif abs(abs(c @ n_in) - 1.0) < tol:
-            words = f"perpendicular to the {name_in} (along the beam)"
+        if lying:
+            words = f"in the {name}, along the width (x, in the principal section)"
+        elif square:
+            words = f"perpendicular to the {name}" + (" (along the beam)" if abs(n[2]) > 1 - tol
+                                                      else "")
         else:
-            words = (f"in the principal section, tilted {out_of_in:.2f}° out of the {name_in} "
-                     f"(turned from {x_word} toward +z, the beam direction)")
-        if abs(out_of_out - out_of_in) > 1e-5:
-            words += f"; {out_of_out:.2f}° to the {name_out}"
+            turn = (f" (turned from {'+x' if cx >= 0 else '−x'} toward +z, the beam direction)"
+                    if abs(n[2]) > 1 - tol else " (in the principal section)")
+            words = f"in the principal section, tilted {tilt:.2f}° out of the {name}{turn}"
+        if abs(other[2] - tilt) > 1e-5:
+            words += f"; {other[2]:.2f}° to the {other[0]}"
     else:
-        polar = 90.0 - out_of_in
-        # Azimuth of the projection on the entrance-side face, from +x toward ±y.
-        proj = c - (c @ n_in) * n_in
-        az = float(np.degrees(np.arctan2(abs(proj[1]), abs(proj[0]))))
-        y_word = "+y" if cy >= 0 else "−y"
-        words = (f"oblique: {polar:.2f}° from the normal of the {name_in}; its projection on "
-                 f"that face at {az:.2f}° from {x_word} toward {y_word}")
-        angles.append((f"azimuth in the {name_in} from the x direction", az))
-    return words, tuple(angles)
+        # Projection on the reference face, its direction from the face's own x direction
+        # (the section's trace on the face) toward ±y.
+        proj = c - (c @ n) * n
+        x_face = np.array([n[2], 0.0, -n[0]])
+        along_x, along_y = float(proj @ x_face), float(proj[1])
+        az = float(np.degrees(np.arctan2(abs(along_y), abs(along_x))))
+        words = (f"oblique: {90.0 - tilt:.2f}° from the normal of the {name}; its projection on "
+                 f"that face at {az:.2f}° from {'+x' if along_x >= 0 else '−x'} toward "
+                 f"{'+y' if along_y >= 0 else '−y'}")
+        angles.append((f"azimuth in the {name} from the x direction", az))
+    return words, tuple(angles), name
 
 
 def _coating_text(boundary, prism, band):
@@ -792,7 +809,7 @@ def _piece_sheet(prism, i, piece, polygon, turn, width, height, names, tol, spec
         # The axis is a line: show it with c_z ≥ 0 (then c_x ≥ 0, then c_y ≥ 0).
         key = next((v for v in (c[2], c[0], c[1]) if abs(v) > 1e-12), 1.0)
         c = c if key > 0 else -c
-        words, axis_angles = _axis_description(c, n_in, n_out, name_in, name_out)
+        words, axis_angles, axis_face = _axis_description(c, n_in, n_out, name_in, name_out)
         polar, _ = tol.limit(f"piece{i}_axis_polar_deg")
         azim, _ = tol.limit(f"piece{i}_axis_azimuth_deg")
         parts = []
@@ -803,7 +820,7 @@ def _piece_sheet(prism, i, piece, polygon, turn, width, height, names, tol, spec
         axis_tol = ("axis orientation " + ", ".join(parts)) if parts else \
             "axis orientation tolerance: not specified"
     else:
-        c, words, axis_angles = None, "isotropic: no optic axis", ()
+        c, words, axis_angles, axis_face = None, "isotropic: no optic axis", (), ""
         axis_tol = ""
     poly = np.array(polygon, dtype=float)
     return PieceSheet(index=i, label=piece.label or f"piece {i}",
@@ -812,6 +829,7 @@ def _piece_sheet(prism, i, piece, polygon, turn, width, height, names, tol, spec
                       reference=str(ref) if ref is not None else "no published source",
                       crystal=piece.is_crystal, faces=(name_in, name_out),
                       side_faces=(side_lo, side_hi), axis_local=c, axis_words=words,
+                      axis_face=axis_face,
                       axis_angles=axis_angles, axis_tolerance=axis_tol, angles=tuple(angles),
                       lengths=lengths, width_mm=float(width), height_mm=float(height),
                       clear_apertures=tuple(clear), callouts=tuple(callouts),

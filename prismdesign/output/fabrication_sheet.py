@@ -254,7 +254,8 @@ def _card_lines(piece):
         left.append(piece.axis_tolerance)
     left.append("Angles")
     for a in piece.angles:
-        tag = "  (wedge angle, derived)" if a.reference else ""
+        tag = ("" if not a.reference else "  (faces parallel, derived)" if a.angle_deg < 1e-9
+               else "  (wedge angle, derived)")
         left.append(f"{a.faces[0]} to {a.faces[1]}: {a.text()}{tag}")
     right = ["Lengths"]
     right += [f"{d.name}: {d.text()}" for d in piece.lengths]
@@ -338,20 +339,30 @@ def _section_view(ax, piece, size_in):
     # Face names along the faces, just outside.
     for name, face_side in zip(piece.faces, (-1.0, 1.0)):
         _face_label(ax, pts, name, face_side, half, s, tol)
-    _axis_symbol(ax, piece, _centroid(pts), min(0.3 * piece.width_mm, 0.35 * s), pts)
+    centre = _centroid(pts)
+    _axis_symbol(ax, piece, centre, min(0.3 * piece.width_mm, 0.35 * s), pts)
+    _axis_angle(ax, piece, pts, centre, half, s, tol)
     ax.text(ax.get_xlim()[0], ax.get_ylim()[1], "principal section (x–z), beam from the left",
             fontsize=7, va="top", color="#444444")
 
 
-def _face_label(ax, pts, name, face_side, half, s, tol):
-    """The face's name parallel to it, outside the piece (face_side −1: entrance side)."""
-    # The face is the polygon edge joining the extreme-z vertices on the two side faces.
+def _face_edge(pts, face_side, half, tol):
+    """End points of an optical face in the section: the extreme-z vertices on the two side
+    faces (face_side −1: entrance side, +1: exit side); None if a side is missing."""
     ends = []
     for x_side in (-half, half):
         on = pts[np.abs(pts[:, 1] - x_side) < tol]
         if not len(on):
-            return
+            return None
         ends.append(on[on[:, 0].argmin()] if face_side < 0 else on[on[:, 0].argmax()])
+    return ends
+
+
+def _face_label(ax, pts, name, face_side, half, s, tol):
+    """The face's name parallel to it, outside the piece (face_side −1: entrance side)."""
+    ends = _face_edge(pts, face_side, half, tol)
+    if ends is None:
+        return
     (za, xa), (zb, xb) = ends
     angle = np.degrees(np.arctan2(xb - xa, zb - za))
     angle = angle - 180.0 if angle > 90.0 else angle + 180.0 if angle <= -90.0 else angle
@@ -361,6 +372,43 @@ def _face_label(ax, pts, name, face_side, half, s, tol):
     pos = mid + normal * 0.13 * s
     ax.text(pos[0], pos[1], name, rotation=angle, rotation_mode="anchor", fontsize=6.8,
             ha="center", va="center", color="#555555")
+
+
+def _axis_angle(ax, piece, pts, centre, half, s, tol):
+    """For an axis in the section but tilted against its reference face: a dashed line along
+    that face through the axis mark, an arc to the axis and the angle."""
+    if piece.axis_local is None or abs(piece.axis_local[1]) > 1e-7:
+        return
+    tilt = dict(piece.axis_angles).get(f"angle to the {piece.axis_face}")
+    if tilt is None or not 1e-5 < tilt < 90.0 - 1e-5:
+        return
+    ends = _face_edge(pts, -1.0 if piece.axis_face == piece.faces[0] else 1.0, half, tol)
+    if ends is None:
+        return
+    face = (ends[1] - ends[0]) / np.hypot(*(ends[1] - ends[0]))
+    cx, _, cz = piece.axis_local
+    axis = np.array([cz, cx]) / np.hypot(cx, cz)
+    face = face if face @ axis >= 0 else -face
+    length = 0.32 * s
+    ax.plot([centre[0] - face[0] * length, centre[0] + face[0] * length],
+            [centre[1] - face[1] * length, centre[1] + face[1] * length], ls=(0, (3, 2)),
+            color=_AXIS, lw=0.7)
+    from matplotlib.patches import Arc
+
+    a1, a2 = np.degrees(np.arctan2(face[1], face[0])), np.degrees(np.arctan2(axis[1], axis[0]))
+    lo, hi = sorted((a1, a2))
+    if hi - lo > 180.0:
+        lo, hi = hi, lo + 360.0
+    r = 0.24 * s
+    ax.add_patch(Arc(centre, 2 * r, 2 * r, theta1=lo, theta2=hi, color=_AXIS, lw=0.8))
+    mid = np.radians(0.5 * (lo + hi))
+    tip = centre + 1.05 * r * np.array([np.cos(mid), np.sin(mid)])
+    # The value sits beside the piece's exit side, led from the arc.
+    # (above the middle of the exit-side face, where that face's own name sits).
+    label = (pts[:, 0].max() + 0.12 * s, centre[1] + 0.42 * s)
+    ax.annotate(f"axis {tilt:.2f}° to the {piece.axis_face}", xy=tip, xytext=label,
+                fontsize=6.8, color=_AXIS, ha="left", va="bottom",
+                arrowprops=dict(arrowstyle="-", color=_AXIS, lw=0.5, shrinkA=1, shrinkB=0))
 
 
 def _corner_angle(ax, pts, piece, angle, s, tol):
