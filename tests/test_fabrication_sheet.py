@@ -85,7 +85,8 @@ def test_wollaston_wedges_equal_plane_trigonometry(theta, theta2):
         edge + w * math.tan(math.radians(theta)))
     assert _length(second, "length along side face −x").length_mm == pytest.approx(edge)
     # Second wedge between planes tilted by θ and θ − θ₂ from the entrance plane: along z its
-    # thick side is w·(tan θ − tan(θ − θ₂)) longer than its thin side (plane trigonometry).
+    # thick side is w·(tan θ − tan(θ − θ₂)) longer than its thin side (plane
+    # trigonometry).
     assert _length(second, "length along side face +x").length_mm == pytest.approx(
         edge + w * (math.tan(math.radians(theta)) - math.tan(math.radians(theta - theta2))))
     # The interface meets the side faces at 90° ± θ.
@@ -201,7 +202,8 @@ def test_axis_words_and_angles_for_the_catalogue():
     assert "45.00° from the normal of the entrance face" in sav[0].axis_words
     assert "from +x toward +y" in sav[0].axis_words
     assert "from −x toward +y" in sav[1].axis_words
-    # Axis at 45° polar, 45° azimuth: its y component sin45·sin45 = 1/2 → 30° to the x–z plane.
+    # Axis at 45° polar, 45° azimuth: its y component sin45·sin45 = 1/2, so 30° to the x–z
+    # plane.
     assert dict(sav[0].axis_angles)["angle to the principal section"] == pytest.approx(30.0)
 
 
@@ -221,6 +223,15 @@ def test_prisms_in_series_are_drawn_in_their_own_frames():
     # Faces beside the space are outer faces (coated or polished), not "internal".
     coat = dict(data.pieces[1].coatings)["prism 1 exit face"]
     assert coat.startswith("uncoated")
+
+
+def test_coating_band_from_the_requirement():
+    from prismdesign.design import Requirement
+
+    need = Requirement(lines_um=(0.532, 1.064), split_deg=5.0)
+    data = fabrication_data(prisms.wollaston(coated=True), requirement=need)
+    assert dict(data.pieces[0].coatings)["entrance face"].startswith(
+        "antireflection coated for 532, 1064 nm")
 
 
 def test_joints_and_coatings():

@@ -25,7 +25,8 @@ import numpy as np
 from .fabrication_data import FabricationData, fabrication_data
 from .files import new_figure, save_figure
 
-__all__ = ["write_fabrication_sheet", "fabrication_data", "FabricationData", "SHEET_FORMATS"]
+__all__ = ["write_fabrication_sheet", "sheet_figure", "fabrication_data", "FabricationData",
+           "SHEET_FORMATS"]
 
 #: File formats the sheet is written in (by suffix).
 SHEET_FORMATS = (".svg", ".pdf")
@@ -236,7 +237,8 @@ def _assembly_view(ax, prism, data, w_in, h_in):
               (lo, top), (hi, top), s)
     ax.text(lo, float(x_all.min()) - 0.12 * s,
             "principal section (x–z) at the centre line, beam from the left; pieces numbered as "
-            "their cards; red arrow: optic axis in the drawing plane, ⊙: axis component across it",
+            "their cards; red arrow: optic axis in the drawing plane, ⊙: axis component across "
+            "it",
             fontsize=7, va="top", color="#444444")
 
 
@@ -334,7 +336,8 @@ def _section_view(ax, piece, size_in):
     wedge = next(a for a in piece.angles if a.reference)
     if wedge.angle_deg > 1e-6:
         ax.text(0.5 * pts[:, 0].max(), -half - 0.5 * s,
-                f"wedge angle {wedge.text()} (follows from the face angles)", fontsize=7, ha="center", va="top",
+                f"wedge angle {wedge.text()} (follows from the face angles)", fontsize=7,
+                ha="center", va="top",
                 color=_DIM)
     # Face names along the faces, just outside.
     for name, face_side in zip(piece.faces, (-1.0, 1.0)):
@@ -342,8 +345,9 @@ def _section_view(ax, piece, size_in):
     centre = _centroid(pts)
     _axis_symbol(ax, piece, centre, min(0.3 * piece.width_mm, 0.35 * s), pts)
     _axis_angle(ax, piece, pts, centre, half, s, tol)
-    ax.text(ax.get_xlim()[0], ax.get_ylim()[1], "principal section (x–z), beam from the left",
-            fontsize=7, va="top", color="#444444")
+    ax.text(ax.get_xlim()[0], ax.get_ylim()[1],
+            "principal section (x–z): beam from the left, +x up", fontsize=7, va="top",
+            color="#444444")
 
 
 def _face_edge(pts, face_side, half, tol):
@@ -433,7 +437,7 @@ def _corner_angle(ax, pts, piece, angle, s, tol):
     if hi - lo > 180.0:
         lo, hi = hi, lo + 360.0
     # Radius: a fixed size on paper, but inside the shorter edge at this corner.
-    r = min(0.22 * s, 0.8 * np.hypot(*(other - corner)), 0.8 * np.hypot(*(along_face - corner)))
+    r = min(0.22 * s, 0.4 * np.hypot(*(other - corner)), 0.8 * np.hypot(*(along_face - corner)))
     ax.add_patch(Arc(corner, 2 * r, 2 * r, theta1=lo, theta2=hi, color=_DIM, lw=0.8))
     # Label beside the corner, outside the piece: left of entrance-side corners, right of
     # exit-side ones; above the +x side, below the −x side.
