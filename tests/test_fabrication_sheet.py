@@ -219,6 +219,10 @@ def test_prisms_in_series_are_drawn_in_their_own_frames():
     assert third.axis_words.startswith("in the prism 2 entrance face, along the width")
     space = [j for j in data.joints if j.kind == "space"]
     assert len(space) == 1 and space[0].thickness_mm == pytest.approx(2.0)
+    # The space's own length tolerance (piece 2) goes to the spacing.
+    spaced = fabrication_data(prism, ToleranceSet((Tolerance("piece2_length_mm", "uniform",
+                                                             0.2),)))
+    assert "after 2.000 ±0.2 mm of air" in spaced.joints[-1].text
     assert any("turned 45.00°" in line for line in data.assembly)
     # Faces beside the space are outer faces (coated or polished), not "internal".
     coat = dict(data.pieces[1].coatings)["prism 1 exit face"]

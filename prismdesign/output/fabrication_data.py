@@ -43,7 +43,8 @@ from .demo_materials import LASER_CAUTION
 
 __all__ = ["FabricationData", "PieceSheet", "AngleDimension", "LengthDimension", "Joint",
            "SURFACE_SPEC_DEFAULTS", "fabrication_data", "iso_form_callout", "iso_tilt_callout",
-           "iso_imperfection_callout", "iso_damage_callout", "CRYSTAL_QUALITY_NOTE"]
+           "iso_imperfection_callout", "iso_damage_callout", "CRYSTAL_QUALITY_NOTE",
+           "WORKSHOP_NOTES"]
 
 #: Surface specification used where the caller gives none (common practice for polarising
 #: prisms of about 10 mm aperture, no source): form 0.5 fringe of power and 0.2 fringe of
@@ -64,6 +65,15 @@ CRYSTAL_QUALITY_NOTE = (
     "optic-axis orientation (tolerance on this sheet, checked by conoscope or X-ray), "
     "inclusions, twinning and scatter (none visible in a collimated laser beam across the clear "
     "aperture), and birefringence homogeneity across the aperture.")
+
+#: Workshop practice printed on every sheet (common practice, no source).
+WORKSHOP_NOTES = (
+    "Mark each crystal piece on a ground side face with its piece number and an arrow along "
+    "the optic axis' projection on that face; mark the entrance face.",
+    "Edges: protective chamfers at most 0.2 mm wide, outside the clear aperture.",
+    "Side faces fine ground unless stated otherwise.",
+    "(Common practice, no source.)",
+)
 
 _UNITS = {"J/cm²", "J/cm2", "W/cm²", "W/cm2", "kW/cm²", "kW/cm2", "MW/cm²", "MW/cm2"}
 _SPEC_KEYS = tuple(SURFACE_SPEC_DEFAULTS)
@@ -237,6 +247,8 @@ class FabricationData:
     iso_notes : tuple of str
         What the ISO 10110 callouts mean and where their defaults come from.
     crystal_quality : str
+    workshop : tuple of str
+        Marking, chamfers and side faces (common practice, no source).
     dispersion_sources : tuple of str
     notes : str
         The caller's own notes.
@@ -253,6 +265,7 @@ class FabricationData:
     other_tolerances: tuple
     iso_notes: tuple
     crystal_quality: str
+    workshop: tuple
     dispersion_sources: tuple
     notes: str
     laser_caution: str
@@ -663,8 +676,10 @@ def fabrication_data(prism, tolerances=None, *, notes="", requirement=None, surf
         # measured from the first prism's last point).
         spacing = float(prism.parameters.get(
             "spacing_mm", prism.boundaries[g + 1].point_mm[2] - prism.boundaries[g].point_mm[2]))
+        limit, _ = tol.limit(f"piece{g}_length_mm")
+        spacing_text = f"{spacing:.3f}" + ("" if limit is None else f" ±{limit:.3g}")
         joints.append(Joint("space between prism 1 and prism 2", ("prism 1", "prism 2"), "space",
-                            f"prism 2 follows prism 1 after {spacing:.3f} mm of "
+                            f"prism 2 follows prism 1 after {spacing_text} mm of "
                             f"{getattr(prism.surround, 'name', 'air')} (set by the mount)",
                             getattr(prism.surround, "name", None), spacing))
     if gap:
@@ -677,8 +692,10 @@ def fabrication_data(prism, tolerances=None, *, notes="", requirement=None, surf
                         "it, as the mount design needs.")
     order = ", ".join(p.label for p in pieces)
     assembly.append(f"Order along the beam: {order}.")
+    # From the pieces as drawn (each prism of a series in its own frame).
+    z_all = np.concatenate([p.polygon_mm[:, 0] for p in pieces])
     assembly.append(f"Overall length along the beam (section at the centre line): "
-                    f"{prism.length_mm:.3f} mm.")
+                    f"{float(z_all.max() - z_all.min()):.3f} mm.")
 
     if tol.given:
         other = tuple(tol.items[n].text() for n in tol.items
@@ -691,7 +708,8 @@ def fabrication_data(prism, tolerances=None, *, notes="", requirement=None, surf
                           "wedge angle's limit is the worst-case sum of its two faces' limits."
                           " Dimensions without a ± limit: tolerance not specified.")
         if unused:
-            tolerance_note += " Not drawn (fixed offsets): " + ", ".join(unused) + "."
+            tolerance_note += (" Not drawn (fixed offsets, or no dimension of a piece): "
+                               + ", ".join(unused) + ".")
     else:
         other = ()
         tolerance_note = "tolerances: not specified"
@@ -735,6 +753,7 @@ def fabrication_data(prism, tolerances=None, *, notes="", requirement=None, surf
                            pieces=tuple(pieces), joints=tuple(joints), assembly=tuple(assembly),
                            tolerance_note=tolerance_note, other_tolerances=other,
                            iso_notes=tuple(iso_notes), crystal_quality=CRYSTAL_QUALITY_NOTE,
+                           workshop=WORKSHOP_NOTES,
                            dispersion_sources=tuple(sources), notes=notes,
                            laser_caution=LASER_CAUTION)
 

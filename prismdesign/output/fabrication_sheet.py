@@ -155,9 +155,11 @@ def sheet_figure(prism, data):
     right = ["Dispersion data used", *data.dispersion_sources]
     if data.notes:
         right += ["Notes", data.notes]
+    right += ["Workshop practice", " ".join(data.workshop)]
     right += ["Laser caution", data.laser_caution]
     _text_block(frame, right, margin + half + 0.15, notes_y + _NOTES_IN - 0.12, half - 0.3,
-                headings={"Dispersion data used", "Notes", "Laser caution"}, size=7.5)
+                headings={"Dispersion data used", "Notes", "Workshop practice", "Laser caution"},
+                size=7.5)
     frame.text(_PAGE_W_IN - margin, notes_y - 0.22,
                "made with prismdesign from the design's own geometry; check every value against "
                "the design before ordering", fontsize=7, ha="right", va="top", color="#555555")
@@ -233,7 +235,7 @@ def _assembly_view(ax, prism, data, w_in, h_in):
         _axis_symbol(ax, piece, centre - [0, 0.12 * s], min(0.22 * s, 0.3 * piece.width_mm),
                      poly)
     top = float(x_all.max())
-    _dim_line(ax, (lo, top + 0.22 * s), (hi, top + 0.22 * s), f"{prism.length_mm:.3f} mm overall",
+    _dim_line(ax, (lo, top + 0.22 * s), (hi, top + 0.22 * s), f"{hi - lo:.3f} mm overall",
               (lo, top), (hi, top), s)
     ax.text(lo, float(x_all.min()) - 0.12 * s,
             "principal section (x–z) at the centre line, beam from the left; pieces numbered as "
