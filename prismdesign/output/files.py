@@ -50,7 +50,7 @@ def _replace(path, write):
     return path
 
 
-def save_figure(fig, path, dpi=120):
+def save_figure(fig, path, dpi=120, **savefig_kwargs):
     """Write `fig` to `path` (format from the suffix: .png, .pdf, .svg ...) atomically.
 
     Parameters
@@ -59,6 +59,8 @@ def save_figure(fig, path, dpi=120):
     path : str or os.PathLike
     dpi : float
         Resolution of raster formats (dots per inch).
+    **savefig_kwargs
+        Passed to ``Figure.savefig`` (e.g. ``metadata``).
 
     Returns
     -------
@@ -67,7 +69,8 @@ def save_figure(fig, path, dpi=120):
     """
     path = Path(path)
     fmt = path.suffix.lstrip(".").lower() or "png"
-    return _replace(path, lambda name: fig.savefig(name, format=fmt, dpi=dpi))
+    return _replace(path, lambda name: fig.savefig(name, format=fmt, dpi=dpi,
+                                                          **savefig_kwargs))
 
 
 def write_text(path, text):
