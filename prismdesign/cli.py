@@ -1,4 +1,5 @@
-"""Command line: ``prismdesign materials | index NAME-OR-FILE | demo | design | tolerance | fit-built``.
+"""Command line: ``prismdesign materials | index | demo | design | tolerance | fit-built |
+analyse | report``.
 
 A thin shell over the public API: it parses arguments, calls the library and formats text.
 Errors from the library become one line on stderr and exit code 2; warnings (for example a
@@ -192,6 +193,8 @@ def build_parser() -> argparse.ArgumentParser:
     add_design_parser(sub)
     from .cli_tolerance import add_tolerance_parsers
     add_tolerance_parsers(sub)
+    from .cli_workflow import add_workflow_parsers
+    add_workflow_parsers(sub)
     return parser
 
 
