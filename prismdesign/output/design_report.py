@@ -234,8 +234,8 @@ def render_report(design_file, *, source_name="", samples=2000, seed=0, progress
         unit = summary["ranked"][0]["figure_unit"] if summary["ranked"] else ""
         parts.append(_table(["error", "distribution", "size", f"per unit ({summary['figure']})",
                              f"swing ({unit})", "relative cost"], rows, text_columns=(0, 1)))
-        parts.append(f"<p><b>Yield: {100 * mc.yield_fraction:.2f} % ± "
-                     f"{100 * mc.yield_error:.2f} %</b> of {mc.samples} simulated built prisms "
+        parts.append(f"<p><strong>Yield: {100 * mc.yield_fraction:.2f} % ± "
+                     f"{100 * mc.yield_error:.2f} %</strong> of {mc.samples} simulated built prisms "
                      f"meet every requirement (seed {seed}). Failure drivers (rank correlation "
                      f"of |error| with the worst margin): "
                      + _e(", ".join(f"{d['parameter']} {d['rank_correlation']:+.2f}"
