@@ -121,13 +121,14 @@ def _band_figure(analysis):
     fine = replace(req, band_points=61) if req.band_um is not None else req
     figs = assess(analysis.prism, fine).figures
     lam = figs.wavelength_um
-    marker = "o" if req.lines_um is not None else None
+    # Laser lines are separate points: no line drawn between them.
+    marker, style = ("o", "none") if req.lines_um is not None else (None, "-")
     fig = new_figure(figsize=(7.0, 5.2), layout="constrained")
     top, bottom = fig.subplots(2, 1, sharex=True, height_ratios=(3, 2))
     kind = req.target_kind
     if kind == "polariser":
         top.semilogy(lam, np.clip(figs.leakage[:, 0], 1e-16, None), marker=marker,
-                     color="#1f4e79")
+                     linestyle=style, color="#1f4e79")
         top.set_ylabel("leakage (power in unwanted beams /\ntransmitted power)")
         if req.max_leakage is not None:
             top.axhline(req.max_leakage, color="#b03a2e", linestyle="--",
@@ -138,7 +139,8 @@ def _band_figure(analysis):
         unit = req.target_unit
         name = {"split": "split", "separation": "separation on the plane",
                 "offset": "lateral offset", "shear": "shear"}[kind]
-        top.plot(lam, values, marker=marker, color="#1f4e79", label="achieved (on axis)")
+        top.plot(lam, values, marker=marker, linestyle=style, color="#1f4e79",
+                 label="achieved (on axis)")
         t, tol = req.target_value, req.target_tolerance
         top.axhspan(t - tol, t + tol, color="#9fc5a8", alpha=0.5,
                     label=f"target {t:g} ± {tol:g} {unit}")
@@ -152,7 +154,7 @@ def _band_figure(analysis):
             pad = 0.15 * (hi - lo)
             top.set_ylim(lo - pad, hi + pad)
     for label, v in figs.transmittance.items():
-        bottom.plot(lam, v[:, 0], marker=marker, label=f"beam {label}")
+        bottom.plot(lam, v[:, 0], marker=marker, linestyle=style, label=f"beam {label}")
     if req.min_transmission is not None:
         bottom.axhline(req.min_transmission, color="#b03a2e", linestyle="--",
                        label=f"allowed {req.min_transmission:g}")
