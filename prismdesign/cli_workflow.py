@@ -120,7 +120,7 @@ def _analyse_command(args) -> str:
              f"{analysis.assessment.figures.length_mm:.3f} mm, main beams "
              f"{', '.join(analysis.assessment.figures.main_labels)}",
              "Requirement: " + "; ".join(analysis.requirement.describe()), "",
-             format_table([h for _, h in TABLE_COLUMNS], analysis.table_rows()), ""]
+             format_table(analysis.headings(), analysis.table_rows()), ""]
     lines += [("  met    " if m.met else "  MISSED ") + m.text()
               for m in analysis.assessment.margins]
     lines.append("meets every requirement" if analysis.meets else "does NOT meet every "

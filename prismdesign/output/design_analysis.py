@@ -42,13 +42,22 @@ class DesignAnalysis:
     requirement : Requirement
     assessment : Assessment
     rows : list of dict
-        One per wavelength, keys of :data:`TABLE_COLUMNS` (None where a beam is lost).
+        One per wavelength, keys of :data:`TABLE_COLUMNS` (None where a beam is lost or the
+        figure does not apply).
+    columns : tuple of str
+        Keys of the figures that apply to this design (e.g. no separation without a plane,
+        no split for a polariser); text and HTML tables show only these.
     """
 
     prism: object
     requirement: object
     assessment: object
     rows: list
+    columns: tuple = tuple(key for key, _ in TABLE_COLUMNS)
+
+    def headings(self):
+        """Headings (with units) of :attr:`columns`."""
+        return [heading for key, heading in TABLE_COLUMNS if key in self.columns]
 
     @property
     def meets(self):
@@ -69,11 +78,11 @@ class DesignAnalysis:
                     table=self.rows, margins=self.margins())
 
     def table_rows(self):
-        """The table as text cells (headings in :data:`TABLE_COLUMNS`); "-" where lost."""
+        """The table as text cells (headings :meth:`headings`); "-" where a beam is lost."""
         out = []
         for row in self.rows:
             cells = []
-            for key, _ in TABLE_COLUMNS:
+            for key in self.columns:
                 v = row[key]
                 if v is None:
                     cells.append("-")
@@ -112,7 +121,11 @@ def analyse_design(design_file):
                          offset_mm=at(figs.offset_mm),
                          transmission=_plain(min(trans)) if trans else None,
                          leakage=_plain(figs.leakage[i, 0])))
-    return DesignAnalysis(prism=prism, requirement=requirement, assessment=assessment, rows=rows)
+    computed = dict(split_deg=figs.split_deg, bisector_deg=figs.bisector_deg,
+                    separation_mm=figs.separation_mm, offset_mm=figs.offset_mm)
+    columns = tuple(key for key, _ in TABLE_COLUMNS if computed.get(key, 0) is not None)
+    return DesignAnalysis(prism=prism, requirement=requirement, assessment=assessment, rows=rows,
+                          columns=columns)
 
 
 def _band_figure(analysis):

@@ -21,7 +21,7 @@ from pathlib import Path
 import numpy as np
 
 from .demo_materials import LASER_CAUTION
-from .design_analysis import TABLE_COLUMNS, _band_figure, _side_figure, analyse_design
+from .design_analysis import _band_figure, _side_figure, analyse_design
 from .files import write_text
 
 __all__ = ["render_report", "write_report", "tolerance_summary"]
@@ -205,7 +205,7 @@ def render_report(design_file, *, source_name="", samples=2000, seed=0, progress
                      f"{_e(s.get('message', ''))}.</p>")
 
     parts.append("<h2>Over the band (on axis)</h2>")
-    parts.append(_table([h for _, h in TABLE_COLUMNS], analysis.table_rows(), text_columns=()))
+    parts.append(_table(analysis.headings(), analysis.table_rows(), text_columns=()))
     parts.append("<p>A dash means the beam the figure needs does not leave the prism there. "
                  "T min: the lower transmittance of the main beams, each for the polarisation "
                  "it carries (Fresnel losses included); leakage: power in unwanted beams over "
