@@ -193,7 +193,7 @@ BAD = [  # (replace this, with this, words the one-line error must contain)
     ("thickness_mm = 0.01", 'thickness_mm = 0.01\ntreatment = "wavy"',
      ["treatment", "wavy", "coherent"]),
     ("thickness_mm = 0.01", "thickness_mm = -0.01", ["thickness_mm", "-0.01"]),
-    ("split_deg = 4.0", "split_deg = 4.0\nsplit_angle = 4.0", ["split_angle", "split_deg"]),
+    ("split_deg = 4.0", "split_deg = 4.0\nsplit_angle = 4.0", ["split_angle", "= 4.0", "split_deg"]),
     ("split_deg = 4.0", "split_deg = 95.0", ["split_deg", "95", "< 90"]),
     ('distribution = "uniform"', 'distribution = "gaussian"', ["gaussian", "normal"]),
     ("size = 0.05", "size = 0.05\nspread = 2", ["spread", "2", "allowed", "size"]),
