@@ -273,3 +273,14 @@ def test_example_design_file_loads_and_meets(tmp_path):
     assert design.tolerances is not None and design.requirement is not None
     assessment = pd.design.assess(design.build(), design.requirement)
     assert assessment.meets
+
+
+def test_numpy_numbers_and_defaults_are_written_as_plain_toml(tmp_path):
+    spec = PrismSpec("wollaston", dict(material="calcite", wedge_angle_deg=np.float64(9.5),
+                                       exit_wedge_angle_deg=None, coated=True))
+    path = save_design(DesignFile(spec), tmp_path / "np.toml")
+    text = path.read_text()
+    assert "wedge_angle_deg = 9.5" in text and "exit_wedge_angle_deg" not in text
+    _same_trace(spec.build(), load_design(path).build())
+    with pytest.raises(ValueError, match=r"wedge_angle_deg must be a finite number, got nan"):
+        PrismSpec("wollaston", dict(material="calcite", wedge_angle_deg=float("nan")))

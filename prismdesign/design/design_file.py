@@ -83,11 +83,15 @@ def _check_string(where, value, what="a text string"):
 
 
 def _check_plain(where, value):
-    """TOML-writable plain values only: str, bool, int, float, lists of those, tables."""
-    if isinstance(value, (str, bool, int, float)):
-        if isinstance(value, float) and not np.isfinite(value):
+    """TOML-writable plain values only: str, bool, int, float, lists of those, tables (numpy
+    scalars become Python numbers; None stays None and is left out when saving)."""
+    if value is None or isinstance(value, (str, bool)):
+        return value               # None: the builder's default (left out of the file)
+    if isinstance(value, (int, float, np.integer, np.floating)):
+        if not np.isfinite(value):
             raise ValueError(f"{where} must be a finite number, got {shown(value)}")
-        return value
+        # Plain Python numbers: numpy scalars would not be written as TOML numbers.
+        return int(value) if isinstance(value, (int, np.integer)) else float(value)
     if isinstance(value, (list, tuple)):
         return [_check_plain(f"{where}[{i}]", v) for i, v in enumerate(value)]
     if isinstance(value, dict):
