@@ -178,3 +178,30 @@ def test_help_has_an_example(verb, capsys):
     assert stop.value.code == 0
     out = capsys.readouterr().out
     assert "examples:" in out and f"prismdesign {verb} " in out
+
+
+def test_polariser_analysis_reports_the_worst_leakage_in_the_field(folder, capsys):
+    (folder / "glan.design.toml").write_text('''schema = 1
+[prism]
+type = "glan_air_spaced"
+material = "calcite"
+cut_angle_deg = 39.5
+width_mm = 6.0
+height_mm = 6.0
+[requirement]
+band_um = [0.45, 0.70]
+band_points = 3
+polariser = true
+field_half_angle_deg = 1.0
+max_leakage = 1e-4
+aperture_mm = 6.0
+''')
+    code, out, err = _run(capsys, "analyse", "glan.design.toml", "--json")
+    assert code == 0, err
+    rows = json.loads(out)["table"]
+    design = load_design(folder / "glan.design.toml")
+    figs = pd.design.assess(design.build(), design.requirement).figures
+    assert [r["field_leakage"] for r in rows] == figs.leakage.max(axis=1).tolist()
+    assert all(r["split_deg"] is None for r in rows)      # a polariser has one beam
+    code, out, _ = _run(capsys, "analyse", "glan.design.toml")
+    assert "leakage, worst in field" in out and "split" not in out.split("\n\n")[1]

@@ -23,7 +23,7 @@ __all__ = ["DesignAnalysis", "analyse_design", "write_analysis_figures", "TABLE_
 TABLE_COLUMNS = (("wavelength_um", "wavelength (um)"), ("split_deg", "split (deg)"),
                  ("bisector_deg", "bisector (deg)"), ("separation_mm", "separation (mm)"),
                  ("offset_mm", "offset (mm)"), ("transmission", "T min"),
-                 ("leakage", "leakage"))
+                 ("leakage", "leakage"), ("field_leakage", "leakage, worst in field"))
 
 
 def _plain(value):
@@ -88,7 +88,7 @@ class DesignAnalysis:
                     cells.append("-")
                 elif key == "wavelength_um":
                     cells.append(f"{v:.4f}")
-                elif key == "leakage":
+                elif key in ("leakage", "field_leakage"):
                     cells.append(f"{v:.3g}")
                 else:
                     cells.append(f"{v:.5f}")
@@ -120,9 +120,13 @@ def analyse_design(design_file):
                          bisector_deg=at(figs.bisector_deg), separation_mm=at(figs.separation_mm),
                          offset_mm=at(figs.offset_mm),
                          transmission=_plain(min(trans)) if trans else None,
-                         leakage=_plain(figs.leakage[i, 0])))
+                         leakage=_plain(figs.leakage[i, 0]),
+                         field_leakage=_plain(np.nanmax(figs.leakage[i]))
+                         if figs.leakage.shape[1] > 1 and np.isfinite(figs.leakage[i]).any()
+                         else None))
     computed = dict(split_deg=figs.split_deg, bisector_deg=figs.bisector_deg,
-                    separation_mm=figs.separation_mm, offset_mm=figs.offset_mm)
+                    separation_mm=figs.separation_mm, offset_mm=figs.offset_mm,
+                    field_leakage=figs.leakage if figs.leakage.shape[1] > 1 else None)
     columns = tuple(key for key, _ in TABLE_COLUMNS if computed.get(key, 0) is not None)
     return DesignAnalysis(prism=prism, requirement=requirement, assessment=assessment, rows=rows,
                           columns=columns)
@@ -140,9 +144,18 @@ def _band_figure(analysis):
     top, bottom = fig.subplots(2, 1, sharex=True, height_ratios=(3, 2))
     kind = req.target_kind
     if kind == "polariser":
-        top.semilogy(lam, np.clip(figs.leakage[:, 0], 1e-16, None), marker=marker,
-                     linestyle=style, color="#1f4e79")
-        top.set_ylabel("leakage (power in unwanted beams /\ntransmitted power)")
+        # Zero leakage (no unwanted beam at all) sits at the floor of the log axis.
+        floor = 1e-12
+        top.semilogy(lam, np.clip(figs.leakage[:, 0], floor, None), marker=marker,
+                     linestyle=style, color="#1f4e79",
+                     label=f"on axis (below {floor:g} drawn at {floor:g})")
+        if figs.leakage.shape[1] > 1:
+            top.semilogy(lam, np.clip(np.nanmax(figs.leakage, axis=1), floor, None),
+                         marker=marker, linestyle="--" if style == "-" else style,
+                         color="#7b3f9e",
+                         label=f"worst within ±{req.field_half_angle_deg:g}° field")
+        top.set_ylabel("leakage (power in unwanted\nbeams / transmitted power)")
+        top.legend(loc="best")
         if req.max_leakage is not None:
             top.axhline(req.max_leakage, color="#b03a2e", linestyle="--",
                         label=f"allowed {req.max_leakage:g}")
@@ -174,7 +187,7 @@ def _band_figure(analysis):
     bottom.set_ylabel("transmittance of\nits polarisation")
     bottom.set_xlabel("wavelength (µm)")
     bottom.legend(loc="best", fontsize="small")
-    top.set_title(f"{analysis.prism.kind}: on-axis figures over the requirement's wavelengths")
+    top.set_title(f"{analysis.prism.kind} over the requirement's wavelengths")
     top.grid(alpha=0.3)
     bottom.grid(alpha=0.3)
     return fig
