@@ -59,7 +59,8 @@ def _prism_options(p, aperture=True):
                    "and its requirement and tolerances unless given as options")
     p.add_argument("--type", dest="prism_type", choices=sorted(BUILDERS),
                    help="prism type (without --design)")
-    p.add_argument("--crystal", help="crystal name, e.g. calcite (without --design)")
+    p.add_argument("--crystal", help="crystal name, e.g. calcite, or a dispersion-data file of "
+                   "your own (without --design)")
     p.add_argument("--size", type=float,
                    help="wedge or cut angle (degrees), or plate thickness / length (mm)")
     if aperture:  # the tolerance verb takes it from the requirement's --aperture-mm
@@ -138,7 +139,13 @@ def _build(args, aperture_mm=None):
     a = args.prism_aperture_mm if aperture_mm is None else aperture_mm
     if not (np.isfinite(a) and a > 0):
         raise ValueError(f"--aperture-mm must be a positive size in mm, got {a:g}")
-    return BUILDERS[args.prism_type](args.crystal, args.size, width_mm=a, height_mm=a)
+    crystal = args.crystal
+    if crystal.lower().endswith(".toml") or Path(crystal).is_file():   # a user's data file
+        from . import load_material
+        if not Path(crystal).is_file():
+            raise ValueError(f"--crystal {crystal}: no such dispersion-data file")
+        crystal = load_material(crystal)
+    return BUILDERS[args.prism_type](crystal, args.size, width_mm=a, height_mm=a)
 
 
 def _tolerances(raw):

@@ -171,7 +171,8 @@ def test_internal_failure_is_exit_1(folder, capsys, monkeypatch):
     assert code == 1 and "internal error" in err and err.count("\n") == 1
 
 
-@pytest.mark.parametrize("verb", ["design", "analyse", "report", "tolerance", "fit-built"])
+@pytest.mark.parametrize("verb", ["materials", "index", "demo", "design", "analyse", "report",
+                                  "tolerance", "fit-built"])
 def test_help_has_an_example(verb, capsys):
     with pytest.raises(SystemExit) as stop:
         build_parser().parse_args([verb, "--help"])
@@ -205,3 +206,26 @@ aperture_mm = 6.0
     assert all(r["split_deg"] is None for r in rows)      # a polariser has one beam
     code, out, _ = _run(capsys, "analyse", "glan.design.toml")
     assert "leakage, worst in field" in out and "split" not in out.split("\n\n")[1]
+
+
+def test_a_material_file_works_where_a_crystal_name_does(folder, capsys):
+    """--crystal takes a user's dispersion-data file: here the bundled calcite data under our
+    own name, so the sensitivities must equal those of the library's calcite."""
+    text = (Path(pd.__file__).resolve().parent.parent / "dispersion_data" /
+            "calcite.toml").read_text(encoding="utf-8")
+    text = text.replace('name = "calcite"', 'name = "bench_calcite"', 1)
+    text = "\n".join(ln for ln in text.splitlines() if not ln.startswith("aliases"))
+    (folder / "bench_calcite.toml").write_text(text + "\n", encoding="utf-8")
+    results = []
+    for crystal in ("calcite", "bench_calcite.toml"):
+        code, out, err = _run(capsys, "tolerance", "--type", "wollaston", "--crystal", crystal,
+                              "--size", "12", "--lines", "0.6328", "--split-deg", "4.2",
+                              "--tolerance", "0.1", "--error", "face1_angle_deg", "uniform",
+                              "0.05", "--samples", "50", "--json")
+        assert code == 0, err
+        results.append(json.loads(out)["sensitivities"])
+    assert results[0] == results[1]
+    code, _, err = _run(capsys, "tolerance", "--type", "wollaston", "--crystal", "gone.toml",
+                        "--size", "12", "--lines", "0.6328", "--split-deg", "4.2",
+                        "--error", "face1_angle_deg", "uniform", "0.05")
+    assert code == 2 and "gone.toml" in err
