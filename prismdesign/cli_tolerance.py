@@ -109,6 +109,7 @@ def add_tolerance_parsers(sub):
     p.add_argument("--fit", nargs="+", required=True, metavar="NAME",
                    help="error parameters to fit")
     p.add_argument("--json", action="store_true", help="print the fit as JSON")
+    p.add_argument("--csv", metavar="FILE", help="also write the fitted parameters as CSV")
     p.set_defaults(run=_fit_command)
 
 
@@ -265,6 +266,13 @@ def _fit_command(args) -> str:
     prism = _build(args)
     data = read_measurements(args.measurements)
     fit = fit_as_built(prism, data, args.fit)
+    if args.csv:
+        table = fit.table()
+        buffer = io.StringIO()
+        writer = csv.DictWriter(buffer, fieldnames=list(table[0]))
+        writer.writeheader()
+        writer.writerows(table)
+        _atomic_write(args.csv, buffer.getvalue())
     if args.json:
         table = [{k: (None if isinstance(v, float) and not np.isfinite(v) else v)
                   for k, v in row.items()} for row in fit.table()]
@@ -274,4 +282,5 @@ def _fit_command(args) -> str:
                                residuals=fit.residuals.tolist(), undetermined=list(fit.undetermined),
                                evaluations=fit.evaluations, message=fit.message,
                                caution=LASER_CAUTION), indent=2, default=float)
-    return fit.report() + "\n\n" + LASER_CAUTION
+    wrote = f"\nwrote {args.csv}" if args.csv else ""
+    return fit.report() + wrote + "\n\n" + LASER_CAUTION

@@ -81,10 +81,13 @@ def test_tolerance_and_fit_built_from_the_design_file(folder, capsys):
                                           zip([0.5, 0.55, 0.6, 0.65], split)]
     (folder / "bench.csv").write_text("\n".join(lines) + "\n")
     code, out, err = _run(capsys, "fit-built", "bench.csv", "--design",
-                          "imager_split.design.toml", "--fit", "face1_angle_deg", "--json")
+                          "imager_split.design.toml", "--fit", "face1_angle_deg", "--json",
+                          "--csv", "fit.csv")
     assert code == 0, err
     fitted = json.loads(out)["parameters"][0]
     assert abs(fitted["value"]) < 1e-6
+    with open("fit.csv", newline="") as handle:
+        assert next(csv.DictReader(handle))["parameter"] == "face1_angle_deg"
 
 
 HOSTILE_TITLE = "<script>alert('t')</script> & Sons"
