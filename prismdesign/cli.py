@@ -1,4 +1,5 @@
-"""Command line: ``prismdesign materials | index NAME-OR-FILE | demo | design | tolerance | fit-built``.
+"""Command line: ``prismdesign materials | index | demo | design | tolerance | fit-built |
+analyse | report``.
 
 A thin shell over the public API: it parses arguments, calls the library and formats text.
 Errors from the library become one line on stderr and exit code 2; warnings (for example a
@@ -169,9 +170,15 @@ def build_parser() -> argparse.ArgumentParser:
     parser = argparse.ArgumentParser(
         prog="prismdesign", description="Design birefringent crystal prisms.")
     sub = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
-    p = sub.add_parser("materials", help="list the crystal and glass library")
+    raw = argparse.RawDescriptionHelpFormatter
+    p = sub.add_parser("materials", help="list the crystal and glass library",
+                       epilog="examples:\n  prismdesign materials", formatter_class=raw)
     p.set_defaults(run=_materials_command)
-    p = sub.add_parser("index", help="table (and plot) of a material's indices over a band")
+    p = sub.add_parser("index", help="table (and plot) of a material's indices over a band",
+                       formatter_class=raw, epilog="examples:\n"
+                       "  prismdesign index calcite --band 0.4 1.0\n"
+                       "  prismdesign index yvo4 --dataset shi-2001 --temperature 40\n"
+                       "  prismdesign index my_crystal.toml --plot my_crystal.png")
     p.add_argument("name", help="material name or alias (e.g. calcite, alpha-BBO), or a "
                    "dispersion-data file of your own (e.g. my_crystal.toml)")
     p.add_argument("--dataset", metavar="NAME", default=None,
@@ -184,7 +191,8 @@ def build_parser() -> argparse.ArgumentParser:
                    help="crystal temperature in degrees C (default: that of the data)")
     p.add_argument("--plot", metavar="FILE", help="also write a figure (PNG, PDF or SVG)")
     p.set_defaults(run=_index_command)
-    p = sub.add_parser("demo", help="run the built-in example")
+    p = sub.add_parser("demo", help="run the built-in example", formatter_class=raw,
+                       epilog="examples:\n  prismdesign demo --out my-demo")
     p.add_argument("--out", default="prismdesign-demo", metavar="DIR",
                    help="folder for the demo's figures and tables (default prismdesign-demo)")
     p.set_defaults(run=_demo_command)
@@ -192,6 +200,8 @@ def build_parser() -> argparse.ArgumentParser:
     add_design_parser(sub)
     from .cli_tolerance import add_tolerance_parsers
     add_tolerance_parsers(sub)
+    from .cli_workflow import add_workflow_parsers
+    add_workflow_parsers(sub)
     return parser
 
 

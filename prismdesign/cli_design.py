@@ -22,6 +22,8 @@ EXAMPLES = """examples:
   prismdesign design --lines 1.55 --offset-mm 1.0 --max-length-mm 15 --json
   prismdesign design --band 0.4 0.7 --polariser --field-deg 3 --max-leakage 1e-4
   prismdesign design my-requirement.toml --csv ranked.csv
+  prismdesign design my-requirement.toml --save best.design.toml        # the best, as a design file
+  prismdesign design my-requirement.toml --save second.design.toml --rank 2
 """
 
 #: Options that map one-to-one onto requirement fields: (option, field, type, help).
@@ -89,6 +91,11 @@ def add_design_parser(sub):
                    help="how a varying target is met over the band (default minimax)")
     p.add_argument("--json", action="store_true", help="print the ranking as JSON")
     p.add_argument("--csv", metavar="FILE", help="also write the ranked table as CSV")
+    p.add_argument("--save", metavar="FILE", help="save a design (the best, or --rank N) as a "
+                   "design file with its requirement, for analyse / tolerance / report")
+    p.add_argument("--rank", type=int, default=1, metavar="N",
+                   help="which ranked design --save writes (default 1, the best)")
+    p.add_argument("--title", default="", help="title stored in the saved design file")
     p.set_defaults(run=_design_command)
 
 
@@ -151,13 +158,34 @@ def _write_csv(ranking, path):
 
 def _design_command(args) -> str:
     requirement = _requirement(args)
+    if args.save and not Path(args.save).parent.is_dir():
+        raise ValueError(f"--save {args.save}: the folder {Path(args.save).parent} does not exist")
     ranking = search(requirement, progress=_progress)
     if args.csv:
         _write_csv(ranking, args.csv)
+    if args.save:
+        _save(ranking, requirement, args)
     if args.json:
         return ranking.to_json(caution=LASER_CAUTION)
     lines = [ranking.text()]
     if args.csv:
         lines.append(f"wrote {args.csv}")
+    if args.save:
+        lines.append(f"wrote {args.save} (rank {args.rank})")
     lines += ["", LASER_CAUTION]
     return "\n".join(lines)
+
+
+def _save(ranking, requirement, args):
+    """Write the design of rank `args.rank` as a design file (see design.design_file)."""
+    from .design.design_file import design_from_solution, save_design
+
+    count = len(ranking.designs)
+    if not 1 <= args.rank <= count:
+        raise ValueError(f"--rank {args.rank}: the ranking has {count} design(s); choose 1 to "
+                         f"{count}")
+    chosen = ranking.designs[args.rank - 1]
+    if chosen.prism is None:
+        raise ValueError(f"--rank {args.rank}: {chosen.prism_type} in {chosen.crystal} could "
+                         f"not be built ({chosen.message}); choose another rank")
+    save_design(design_from_solution(chosen, requirement, title=args.title), args.save)

@@ -76,6 +76,7 @@ TOLERANCE_EXAMPLES = """examples:
       --error piece0_axis_azimuth_deg uniform 0.5 3 --samples 5000 --target-yield 0.95
   prismdesign tolerance --type wollaston --crystal yvo4 --size 10 --band 0.5 0.7 \\
       --split-deg 4.5 --error face1_angle_deg normal 0.02 --json
+  prismdesign tolerance --design my.design.toml      # prism, requirement and tolerances from the file
 
 Error names: piece<i>_axis_polar_deg, piece<i>_axis_azimuth_deg, face<j>_angle_deg,
 face<j>_pyramid_deg, piece<i>_length_mm, incidence_in_plane_deg, incidence_out_of_plane_deg,
@@ -85,6 +86,7 @@ wavelength_nm, temperature_change_c (faces counted from 0 = entrance).
 FIT_EXAMPLES = """examples:
   prismdesign fit-built bench.csv --type wollaston --crystal calcite --size 15 \\
       --fit face1_angle_deg face2_angle_deg
+  prismdesign fit-built bench.csv --design my.design.toml --fit face1_angle_deg
 
 The CSV has a wavelength_um column, optional in_plane_deg / out_of_plane_deg, measured columns
 (split_deg, first_deviation_deg, second_deviation_deg, offset_mm, opd_um) and optional
@@ -93,10 +95,13 @@ sigma_<column> uncertainties; an empty cell means not measured.
 
 
 def _prism_options(p, aperture=True):
-    p.add_argument("--type", dest="prism_type", required=True, choices=sorted(BUILDERS),
-                   help="prism type")
-    p.add_argument("--crystal", required=True, help="crystal name, e.g. calcite")
-    p.add_argument("--size", type=float, required=True,
+    p.add_argument("--design", metavar="FILE", help="design file (TOML, schema = 1): its prism, "
+                   "and its requirement and tolerances unless given as options")
+    p.add_argument("--type", dest="prism_type", choices=sorted(BUILDERS),
+                   help="prism type (without --design)")
+    p.add_argument("--crystal", help="crystal name, e.g. calcite, or a dispersion-data file of "
+                   "your own (without --design)")
+    p.add_argument("--size", type=float,
                    help="wedge or cut angle (degrees), or plate thickness / length (mm)")
     if aperture:  # the tolerance verb takes it from the requirement's --aperture-mm
         p.add_argument("--aperture-mm", dest="prism_aperture_mm", type=float, default=10.0,
@@ -144,14 +149,44 @@ def add_tolerance_parsers(sub):
     p.add_argument("--fit", nargs="+", required=True, metavar="NAME",
                    help="error parameters to fit")
     p.add_argument("--json", action="store_true", help="print the fit as JSON")
+    p.add_argument("--csv", metavar="FILE", help="also write the fitted parameters as CSV")
     p.set_defaults(run=_fit_command)
 
 
+def _design_file(args):
+    """The --design file (loaded once), or None."""
+    if not getattr(args, "design", None):
+        return None
+    if getattr(args, "_loaded_design", None) is None:
+        from .design.design_file import load_design
+        args._loaded_design = load_design(args.design)
+    return args._loaded_design
+
+
 def _build(args, aperture_mm=None):
+    design = _design_file(args)
+    if design is not None:
+        given = [o for o, v in (("--type", args.prism_type), ("--crystal", args.crystal),
+                                ("--size", args.size)) if v is not None]
+        if given:
+            raise ValueError(f"--design {args.design}: the file holds the prism; leave out "
+                             f"{', '.join(given)}")
+        return design.build()
+    missing = [o for o, v in (("--type", args.prism_type), ("--crystal", args.crystal),
+                              ("--size", args.size)) if v is None]
+    if missing:
+        raise ValueError(f"give --design FILE, or the prism as --type, --crystal and --size "
+                         f"(missing {', '.join(missing)})")
     a = args.prism_aperture_mm if aperture_mm is None else aperture_mm
     if not (np.isfinite(a) and a > 0):
         raise ValueError(f"--aperture-mm must be a positive size in mm, got {a:g}")
-    return BUILDERS[args.prism_type](args.crystal, args.size, width_mm=a, height_mm=a)
+    crystal = args.crystal
+    if crystal.lower().endswith(".toml") or Path(crystal).is_file():   # a user's data file
+        from . import load_material
+        if not Path(crystal).is_file():
+            raise ValueError(f"--crystal {crystal}: no such dispersion-data file")
+        crystal = load_material(crystal)
+    return BUILDERS[args.prism_type](crystal, args.size, width_mm=a, height_mm=a)
 
 
 def _tolerances(raw):
@@ -184,9 +219,18 @@ def _atomic_write(path, text):
 def _tolerance_command(args) -> str:
     if args.samples < 1:
         raise ValueError(f"--samples must be >= 1, got {args.samples}")
-    requirement = _requirement(args)
+    design = _design_file(args)
+    if design is not None and design.requirement is not None and args.band is None \
+            and args.lines is None:
+        args.requirement_file = None
+        requirement = design.requirement
+    else:
+        requirement = _requirement(args)
     prism = _build(args, requirement.clear_aperture_mm)
-    tolerances = _tolerances(args.error)
+    if design is not None and design.tolerances is not None and not args.error:
+        tolerances = design.tolerances
+    else:
+        tolerances = _tolerances(args.error)
     for t in tolerances.items:
         parameter(prism, t.name)  # one-line error naming the allowed errors of this prism
     sens = sensitivities(prism, requirement, tolerances.names)
@@ -227,7 +271,8 @@ def _tolerance_command(args) -> str:
                                    check_yield=allocation.check_yield),
                                caution=LASER_CAUTION))
     unit = ranked[0]["figure_unit"] if ranked else ""
-    lines = [f"What moves the {figure} of this {prism.kind} ({args.crystal}, {args.size:g}):",
+    what = args.design if design is not None else f"{args.crystal}, {args.size:g}"
+    lines = [f"What moves the {figure} of this {prism.kind} ({what}):",
              f"  {'error':30s} {'per unit':>12s} {'tolerance':>10s} {'swing ' + unit:>12s}"]
     for r in ranked:
         lines.append(f"  {r['parameter']:30s} {r['sensitivity']:+12.4g} {r['tolerance']:10.3g} "
@@ -261,10 +306,18 @@ def _fit_command(args) -> str:
     prism = _build(args)
     data = read_measurements(args.measurements)
     fit = fit_as_built(prism, data, args.fit)
+    if args.csv:
+        table = fit.table()
+        buffer = io.StringIO()
+        writer = csv.DictWriter(buffer, fieldnames=list(table[0]))
+        writer.writeheader()
+        writer.writerows(table)
+        _atomic_write(args.csv, buffer.getvalue())
     if args.json:
         return _json_dumps(dict(parameters=fit.table(), reduced_chi_square=fit.reduced_chi_square,
                                 correlation=fit.correlation, residuals=fit.residuals,
                                 undetermined=list(fit.undetermined),
                                 evaluations=fit.evaluations, message=fit.message,
                                 caution=LASER_CAUTION))
-    return fit.report() + "\n\n" + LASER_CAUTION
+    wrote = f"\nwrote {args.csv}" if args.csv else ""
+    return fit.report() + wrote + "\n\n" + LASER_CAUTION

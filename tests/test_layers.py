@@ -17,9 +17,11 @@ ALLOWED = {
     "design": {"_display", "materials", "optics", "prisms", "analysis"},
     "output": {"_display", "materials", "optics", "prisms", "analysis", "design", "__init__"},
     "cli": {"_display", "materials", "optics", "prisms", "analysis", "design", "output",
-            "__init__", "cli_design", "cli_tolerance"},
+            "__init__", "cli_design", "cli_tolerance", "cli_workflow"},
     "cli_design": {"_display", "materials", "optics", "prisms", "analysis", "design", "output",
                    "__init__"},
+    "cli_workflow": {"_display", "materials", "optics", "prisms", "analysis", "design", "output",
+                     "__init__"},
     "cli_tolerance": {"_display", "materials", "optics", "prisms", "analysis", "design",
                       "output", "__init__", "cli_design"},
 }

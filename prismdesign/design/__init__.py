@@ -32,3 +32,8 @@ __all__ += ["Allocation", "allocate", "AsBuiltFit", "Measurements", "Undetermine
             "Parameter", "apply_errors", "prism_parameters", "Sensitivities", "sensitivities",
             "wollaston_closed_form", "TemperatureSweep", "temperature_sweep", "DISTRIBUTIONS",
             "Tolerance", "ToleranceSet"]
+
+from .design_file import (DesignFile, PrismSpec, design_from_solution, load_design,
+                          save_design)
+
+__all__ += ["DesignFile", "PrismSpec", "design_from_solution", "load_design", "save_design"]

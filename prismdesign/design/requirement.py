@@ -387,7 +387,8 @@ def requirement_from_mapping(mapping, where="requirement"):
     allowed = {f.name for f in fields(Requirement)} | set(_CONVERTED)
     unknown = sorted(set(mapping) - allowed)
     if unknown:
-        raise ValueError(f"{where}: unknown key {unknown[0]!r}; allowed keys are "
+        raise ValueError(f"{where}: unknown key {unknown[0]!r} = {shown(mapping[unknown[0]])}; "
+                         f"allowed keys are "
                          f"{', '.join(sorted(allowed))}")
     values = dict(mapping)
     for key, (target, convert) in _CONVERTED.items():
