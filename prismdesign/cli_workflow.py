@@ -1,4 +1,4 @@
-"""The ``prismdesign analyse`` and ``prismdesign report`` verbs (and ``sheet`` where available).
+"""The ``prismdesign analyse``, ``report`` and ``sheet`` verbs.
 
 Thin shells over :mod:`prismdesign.design.design_file` and the output layer: ``analyse`` prints
 a design file's table over its requirement's band (or JSON), writes it as CSV and its figures
@@ -30,7 +30,7 @@ REPORT_EXAMPLES = """examples:
 """
 
 SHEET_EXAMPLES = """examples:
-  prismdesign sheet examples/camera_splitter.design.toml --out sheet.svg
+  prismdesign sheet examples/imager_split.design.toml --out sheet.svg
   prismdesign sheet my.design.toml --out sheet.pdf
 """
 
@@ -48,7 +48,7 @@ def _out_file(text, suffixes, option="--out"):
 
 
 def add_workflow_parsers(sub):
-    """Add the ``analyse``, ``report`` (and, when the module exists, ``sheet``) verbs."""
+    """Add the ``analyse``, ``report`` and ``sheet`` verbs."""
     p = sub.add_parser(
         "analyse", help="a design file against its requirement: table over the band, figures",
         description="Trace the prism of a design file over its requirement's wavelengths and "
@@ -75,10 +75,6 @@ def add_workflow_parsers(sub):
     p.add_argument("--seed", type=int, default=0, help="Monte Carlo seed (default 0)")
     p.set_defaults(run=_report_command)
 
-    try:
-        from .output import fabrication_sheet  # noqa: F401  (built in parallel; optional)
-    except ImportError:
-        return
     p = sub.add_parser(
         "sheet", help="fabrication sheet of a design file (SVG or PDF)",
         description="Draw the prism's fabrication sheet: views with dimensions, optic axes, "

@@ -232,3 +232,28 @@ def test_a_material_file_works_where_a_crystal_name_does(folder, capsys):
                         "--size", "12", "--lines", "0.6328", "--split-deg", "4.2",
                         "--error", "face1_angle_deg", "uniform", "0.05")
     assert code == 2 and "gone.toml" in err
+
+
+def test_sheet_verb_draws_the_design_with_its_own_numbers(tmp_path, capsys):
+    """The sheet written from the example design file states the design's wedge angle and
+    length (as text in the SVG) and the tolerance the file gives for the interface angle."""
+    import xml.etree.ElementTree as ET
+    from pathlib import Path
+
+    from prismdesign.cli import main as cli_main
+    from prismdesign.design import load_design
+    from prismdesign.output.fabrication_data import fabrication_data
+
+    example = Path(__file__).resolve().parent.parent / "examples" / "imager_split.design.toml"
+    out = tmp_path / "sheet.svg"
+    assert cli_main(["sheet", str(example), "--out", str(out)]) == 0
+    assert "wrote" in capsys.readouterr().out
+    design = load_design(example)
+    prism = design.build()
+    data = fabrication_data(prism, design.tolerances)
+    wedge = float(prism.parameters["wedge_angle_deg"])
+    texts = " ".join("".join(e.itertext()) for e in ET.parse(out).getroot().iter()
+                     if e.tag.endswith("text"))
+    assert f"{wedge:.3f}°" in texts
+    assert f"{prism.length_mm:.3f} mm" in texts
+    assert data.pieces[0].material.startswith("calcite")
