@@ -16,7 +16,7 @@ from dataclasses import replace
 
 import numpy as np
 import pytest
-from hypothesis import given, settings
+from hypothesis import example, given, settings
 from hypothesis import strategies as st
 
 from prismdesign import prisms
@@ -148,6 +148,8 @@ def test_sheet_numbers_equal_the_boundary_planes(build):
 @settings(max_examples=25, deadline=None)
 @given(angles=st.lists(st.floats(-40.0, 40.0), min_size=1, max_size=3),
        thickness=st.floats(0.3, 5.0), width=st.floats(2.0, 20.0))
+# Parallel faces: arccos of the normals' dot product once gave 8.5e-7° instead of 0.
+@example(angles=[34.875, 34.875], thickness=1.0, width=2.0)
 def test_any_stack_reads_back_its_planes(angles, thickness, width):
     """Property: for any stack of wedges, lengths along the side faces are the distances
     between the face planes there, and each wedge angle is the angle between the faces'

@@ -493,8 +493,10 @@ def _local(vector, turn_deg):
 
 
 def _angle_between_planes_deg(n1, n2):
-    """Dihedral angle between two planes with unit normals (0-90°)."""
-    return float(np.degrees(np.arccos(np.clip(abs(n1 @ n2), 0.0, 1.0))))
+    """Dihedral angle between two planes with unit normals (0-90°), as atan2(|n₁×n₂|, |n₁·n₂|):
+    arccos of the dot product loses half the digits for nearly parallel faces."""
+    n1, n2 = np.asarray(n1, dtype=float), np.asarray(n2, dtype=float)
+    return float(np.degrees(np.arctan2(np.linalg.norm(np.cross(n1, n2)), abs(n1 @ n2))))
 
 
 def _interior_angles(polygon):
@@ -504,8 +506,8 @@ def _interior_angles(polygon):
     for i in range(k):
         a = polygon[i - 1] - polygon[i]
         b = polygon[(i + 1) % k] - polygon[i]
-        cos = a @ b / (np.linalg.norm(a) * np.linalg.norm(b))
-        out.append(float(np.degrees(np.arccos(np.clip(cos, -1.0, 1.0)))))
+        cross = a[0] * b[1] - a[1] * b[0]
+        out.append(float(np.degrees(np.arctan2(abs(cross), a @ b))))
     return out
 
 
