@@ -241,7 +241,9 @@ def test_allocation_with_one_dominant_parameter(wollaston):
         "split_deg", "face1_angle_deg")[0])
     best = 0.02 / (slope * 0.9)
     limit = result.allocated["face1_angle_deg"].size
-    assert best / 1.25 * 0.97 < limit < best * 1.03
+    # Refined loosening ends within the finest step, 1.25^(1/8), of the answer (±3 % sampling).
+    fine = 1.25 ** (0.5 ** 3)
+    assert best / fine * 0.97 < limit < best * 1.03
     assert result.allocated["piece0_axis_azimuth_deg"].size > 0.8 / 1.25
     assert result.reached and result.yield_fraction >= 0.9
     assert result.allocated.cost < ts.cost

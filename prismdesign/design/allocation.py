@@ -9,7 +9,9 @@ Method (a greedy search on a fixed sample, documented here because the answer de
    cost, until the target is reached (or nothing can be tightened: then it is unreachable).
 3. Loosen: each round tries multiplying each size by `step` (up to its `loosest`) and keeps the
    change that saves the most cost while the yield stays at or above the target; it stops
-   when no loosening keeps the target.
+   when no loosening keeps the target. Then the same with the finer steps √step, ⁴√step, ...
+   (`refinements` times), so each size ends within a factor step^(1/2^refinements) of where
+   it would break the target rather than a whole `step`.
 
 All candidates of one round are traced as one batch. The result is a local optimum on the
 `step` grid: each size is within a factor `step` of where it would break the target (given the
@@ -96,7 +98,7 @@ def _cost(tolerances, sizes):
 
 
 def allocate(prism, requirement, tolerances, target_yield=0.95, *, samples=2000, seed=0,
-             step=1.25, max_rounds=100, chunk_size=20000, check_samples=None):
+             step=1.25, max_rounds=100, chunk_size=20000, check_samples=None, refinements=3):
     """Loosest tolerances (least relative cost) keeping the yield at or above a target.
 
     Parameters
@@ -116,6 +118,8 @@ def allocate(prism, requirement, tolerances, target_yield=0.95, *, samples=2000,
     chunk_size : int
     check_samples : int, optional
         Fresh samples for the final check (default = `samples`).
+    refinements : int
+        Finer loosening passes after the first, each with the square root of the last step.
 
     Returns
     -------
@@ -148,19 +152,22 @@ def allocate(prism, requirement, tolerances, target_yield=0.95, *, samples=2000,
         best = int(np.argmax(gain))
         sizes, current = candidates[best], float(ys[best])
     reached = current >= target_yield
-    while reached and rounds < max_rounds:
-        rounds += 1
-        moves = [t for t in free if sizes[t.name] * step <= t.loosest * (1 + 1e-12)]
-        if not moves:
-            break
-        candidates = [dict(sizes, **{t.name: sizes[t.name] * step}) for t in moves]
-        ys = _yields(prism, requirement, tolerances, units, candidates, main, nominal, chunk_size)
-        keep = [k for k, y in enumerate(ys) if y >= target_yield]
-        if not keep:
-            break
-        saving = {k: _cost(tolerances, sizes) - _cost(tolerances, candidates[k]) for k in keep}
-        best = max(keep, key=lambda k: (saving[k], ys[k]))
-        sizes, current = candidates[best], float(ys[best])
+    for factor in (step ** (0.5 ** k) for k in range(int(refinements) + 1)):
+        while reached and rounds < max_rounds:
+            rounds += 1
+            moves = [t for t in free if sizes[t.name] * factor <= t.loosest * (1 + 1e-12)]
+            if not moves:
+                break
+            candidates = [dict(sizes, **{t.name: sizes[t.name] * factor}) for t in moves]
+            ys = _yields(prism, requirement, tolerances, units, candidates, main, nominal,
+                         chunk_size)
+            keep = [k for k, y in enumerate(ys) if y >= target_yield]
+            if not keep:
+                break
+            saving = {k: _cost(tolerances, sizes) - _cost(tolerances, candidates[k])
+                      for k in keep}
+            best = max(keep, key=lambda k: (saving[k], ys[k]))
+            sizes, current = candidates[best], float(ys[best])
     allocated = tolerances.with_sizes(sizes)
     check = monte_carlo(prism, requirement, allocated, check_samples or samples,
                         seed=seed + 1, chunk_size=chunk_size, progress=False)
