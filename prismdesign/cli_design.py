@@ -15,7 +15,7 @@ from pathlib import Path
 from .design import FAMILIES, BAND_NORMS, load_requirement, requirement_from_mapping, search
 from .output.demo_materials import LASER_CAUTION
 
-__all__ = ["add_design_parser"]
+__all__ = ["add_design_parser", "add_requirement_options"]
 
 EXAMPLES = """examples:
   prismdesign design --band 0.45 0.7 --split-deg 10 --tolerance 0.05 --max-length-mm 25
@@ -57,6 +57,17 @@ _FIELDS = (
 )
 
 
+def add_requirement_options(p):
+    """Options that set a requirement's fields (wavelengths, target, limits) on parser `p`."""
+    p.add_argument("--band", nargs=2, type=float, metavar=("FROM_UM", "TO_UM"),
+                   help="wavelength band (um)")
+    p.add_argument("--lines", nargs="+", type=float, metavar="UM", help="laser lines (um)")
+    for option, field, kind, text in _FIELDS:
+        p.add_argument(option, dest=field, type=kind, default=None, help=text)
+    p.add_argument("--polariser", action="store_true", default=None,
+                   help="target: a polariser (Glan types); pair with --field-deg/--max-leakage")
+
+
 def add_design_parser(sub):
     """Add the ``design`` verb to the sub-command parsers `sub`."""
     p = sub.add_parser(
@@ -67,13 +78,7 @@ def add_design_parser(sub):
     p.add_argument("requirement_file", nargs="?", metavar="FILE",
                    help="TOML file with schema = 1 and a [requirement] table (options below "
                         "override its values)")
-    p.add_argument("--band", nargs=2, type=float, metavar=("FROM_UM", "TO_UM"),
-                   help="wavelength band (um)")
-    p.add_argument("--lines", nargs="+", type=float, metavar="UM", help="laser lines (um)")
-    for option, field, kind, text in _FIELDS:
-        p.add_argument(option, dest=field, type=kind, default=None, help=text)
-    p.add_argument("--polariser", action="store_true", default=None,
-                   help="target: a polariser (Glan types); pair with --field-deg/--max-leakage")
+    add_requirement_options(p)
     p.add_argument("--coated", action="store_true", default=None,
                    help="outer faces antireflection coated (ideal single layer)")
     p.add_argument("--undeviated", dest="undeviated_polarisation",

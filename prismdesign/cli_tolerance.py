@@ -16,7 +16,7 @@ from pathlib import Path
 import numpy as np
 
 from . import prisms
-from .cli_design import _FIELDS, _requirement
+from .cli_design import _requirement, add_requirement_options
 from .design.perturbation import parameter
 from .design import (DISTRIBUTIONS, Tolerance, ToleranceSet, allocate, fit_as_built,
                      monte_carlo, read_measurements, sensitivities)
@@ -117,13 +117,7 @@ def add_tolerance_parsers(sub):
                     "find the loosest tolerances that keep a target yield.",
         epilog=TOLERANCE_EXAMPLES, formatter_class=argparse.RawDescriptionHelpFormatter)
     _prism_options(p, aperture=False)
-    p.add_argument("--band", nargs=2, type=float, metavar=("FROM_UM", "TO_UM"),
-                   help="wavelength band (um)")
-    p.add_argument("--lines", nargs="+", type=float, metavar="UM", help="laser lines (um)")
-    for option, field, kind, text in _FIELDS:
-        p.add_argument(option, dest=field, type=kind, default=None, help=text)
-    p.add_argument("--polariser", action="store_true", default=None,
-                   help="target: a polariser (Glan types)")
+    add_requirement_options(p)
     p.add_argument("--error", nargs="+", action="append", default=[],
                    metavar="NAME DISTRIBUTION SIZE [COST]",
                    help=f"a tolerance: error name, distribution ({', '.join(DISTRIBUTIONS)}), "

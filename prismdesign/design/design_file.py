@@ -27,7 +27,6 @@ from __future__ import annotations
 import inspect
 import os
 import tempfile
-import tomllib
 from dataclasses import dataclass, field, fields, replace
 from pathlib import Path
 
@@ -38,7 +37,7 @@ from .._display import shown
 from ..materials import load_material
 from ..materials import material as library_material
 from .families import FAMILIES, design_wavelength_um
-from .requirement import Requirement, requirement_from_mapping
+from .requirement import Requirement, read_toml, requirement_from_mapping
 from .tolerance import DISTRIBUTIONS, Tolerance, ToleranceSet
 
 __all__ = ["DesignFile", "PrismSpec", "BUILDERS", "SCHEMA", "save_design", "load_design",
@@ -489,12 +488,7 @@ def load_design(path):
         When the file cannot be read.
     """
     path = Path(path)
-    try:
-        data = tomllib.loads(path.read_text(encoding="utf-8"))
-    except tomllib.TOMLDecodeError as error:
-        raise ValueError(f"{path}: not valid TOML ({error})") from None
-    except UnicodeDecodeError:
-        raise ValueError(f"{path}: not a text file (UTF-8 TOML expected)") from None
+    data = read_toml(path)
     try:
         return design_from_mapping(data, base_folder=path.resolve().parent)
     except ValueError as error:

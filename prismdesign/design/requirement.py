@@ -10,7 +10,9 @@ one-line :class:`ValueError` naming the field, the value and what is allowed.
 The same object is read from the ``[requirement]`` table of a design file
 (:func:`requirement_from_mapping`), so the keys of that table are the field names below.
 """
+import tomllib
 from dataclasses import dataclass, fields
+from pathlib import Path
 
 import numpy as np
 
@@ -405,6 +407,32 @@ def requirement_from_mapping(mapping, where="requirement"):
         raise ValueError(f"{where}: {error}") from None
 
 
+def read_toml(path):
+    """The tables of a TOML file (standard-library reader), or a one-line error naming it.
+
+    Parameters
+    ----------
+    path : pathlib.Path
+
+    Returns
+    -------
+    dict
+
+    Raises
+    ------
+    ValueError
+        Not valid TOML, or not UTF-8 text.
+    OSError
+        When the file cannot be read.
+    """
+    try:
+        return tomllib.loads(path.read_text(encoding="utf-8"))
+    except tomllib.TOMLDecodeError as error:
+        raise ValueError(f"{path}: not valid TOML ({error})") from None
+    except UnicodeDecodeError:
+        raise ValueError(f"{path}: not a text file (UTF-8 TOML expected)") from None
+
+
 def load_requirement(path):
     """Read a requirement from a TOML file: ``schema = 1`` and a ``[requirement]`` table.
 
@@ -423,16 +451,8 @@ def load_requirement(path):
     OSError
         When the file cannot be read.
     """
-    import tomllib
-    from pathlib import Path
-
     path = Path(path)
-    try:
-        data = tomllib.loads(path.read_text(encoding="utf-8"))
-    except tomllib.TOMLDecodeError as error:
-        raise ValueError(f"{path}: not valid TOML ({error})") from None
-    except UnicodeDecodeError:
-        raise ValueError(f"{path}: not a text file (UTF-8 TOML expected)") from None
+    data = read_toml(path)
     if data.get("schema") != 1:
         raise ValueError(f"{path}: schema must be 1, got {shown(data.get('schema'))}")
     unknown = sorted(set(data) - {"schema", "requirement"})
