@@ -79,8 +79,11 @@ def test_o_beam_rejected_just_above_and_passing_just_below_critical(axis, o_pol,
     expected = (_normal_fresnel_t(n_air, n_o) ** 2
                 * _slab_transmittance(n_o, n_air, np.deg2rad(theta_c + 0.3), 10.0, LAM, o_pol))
     assert leak < 1e-9
-    # The exact solve resolves such tiny powers to ~1e-16 absolute (double precision).
-    assert leak == pytest.approx(expected, rel=1e-9, abs=1e-15)
+    # The exact solve resolves such tiny powers to ~1e-15 absolute (double precision): through
+    # a gap with k₀γd ≈ 12 the boundary equations amplify rounding by ~e^24, and perturbing the
+    # wavelength and cut angle by 1e-15 (relative) moves this leak by 0.8-1.2e-15 on either
+    # kernel (numpy or compiled; measured for the compiled-kernel work, issue 11).
+    assert leak == pytest.approx(expected, rel=1e-9, abs=2e-15)
     with pytest.warns(UserWarning, match="passes both beams"):
         below = glan_air_spaced(cut_angle_deg=theta_c - 0.3, axis=axis)
     assert below.parameters["transmitted_mode"] == "both"

@@ -391,6 +391,10 @@ def _kernel_input(a, shape, size, tail, dtype):
     """A C-contiguous, writeable (m, *tail) array with m = size, or m = 1 for a value shared by
     every ray (the kernel then reads row 0): no copy of a broadcast constant."""
     lead = a.shape[:a.ndim - len(tail)]
+    if lead and a.size and not any(a.strides[:len(lead)]):
+        # A broadcast constant (all leading strides zero), e.g. one optic axis for every ray.
+        a = a[(0,) * len(lead)]
+        lead = ()
     if lead == shape:
         flat = a.reshape((size,) + tail)
     elif int(np.prod(lead)) == 1:
