@@ -24,6 +24,9 @@ import numpy as np
 __all__ = ["kernel", "solve_rays"]
 
 
+_NO_CACHE_WARNED = []
+
+
 def _jit(**options):
     """numba.njit with the project's options: cached, and numpy's rules for 1/0 and NaN.
 
@@ -37,10 +40,13 @@ def _jit(**options):
             return numba.njit(cache=True, error_model="numpy", **options)(func)
         except RuntimeError:
             # numba raises when no cache location is writable (read-only install and no user
-            # cache directory): compile in every process instead.
-            warnings.warn("numba found no writable cache directory for the prismdesign kernel; "
-                          "it compiles anew in each process (set NUMBA_CACHE_DIR to keep it)",
-                          RuntimeWarning, stacklevel=2)
+            # cache directory): compile in every process instead, and say so once.
+            if not _NO_CACHE_WARNED:
+                _NO_CACHE_WARNED.append(True)
+                warnings.warn("numba found no writable cache directory for the prismdesign "
+                              "kernel; it compiles anew in each process (~15 s; set "
+                              "NUMBA_CACHE_DIR to a writable folder to keep it)",
+                              RuntimeWarning, stacklevel=3)
             return numba.njit(cache=False, error_model="numpy", **options)(func)
     return decorate
 
