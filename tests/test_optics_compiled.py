@@ -304,3 +304,29 @@ def test_interface_physics_tests_pass_on_the_other_kernel():
                           *files], env=env, cwd=tests.parent, capture_output=True, text=True,
                          timeout=1800)
     assert run.returncode == 0, run.stdout[-3000:] + run.stderr[-3000:]
+
+
+@pytest.mark.parametrize("kernel", ["numpy", "compiled"])
+def test_reused_outputs_give_the_same_result(kernel):
+    # solve_interface(..., out=earlier) overwrites the earlier result's arrays instead of
+    # allocating: the answer must be that of a fresh call, and the buffers are handed over once.
+    rng = np.random.default_rng(106)
+    first_case = random_case(rng, 5000)
+    second_case = random_case(rng, 5000)
+    previous = set_kernel(kernel)
+    try:
+        fresh = solve_interface(*second_case)
+        earlier = solve_interface(*first_case)
+        buffer = earlier.e_field
+        reused = solve_interface(*second_case, out=earlier)
+        assert np.shares_memory(reused.e_field, buffer)
+        again = solve_interface(*second_case, out=earlier)        # nothing left to reuse
+        assert not np.shares_memory(again.e_field, buffer)
+        smaller = solve_interface(*[c[:10] if not isinstance(c, tuple) else (c[0][:10], c[1][:10])
+                                    for c in second_case], out=reused)
+        assert smaller.e_field.shape == (10, 4, 3)
+    finally:
+        set_kernel(previous)
+    for name in ("coefficient", "power_fraction", "evanescent", "singular", "normal",
+                 "normal_component", "e_field", "ray_direction", "wave_vector"):
+        np.testing.assert_array_equal(getattr(reused, name), getattr(fresh, name), err_msg=name)

@@ -355,6 +355,7 @@ def trace(system, position_mm, direction, wavelength_um, polarisation=(1.0, 0.0)
                     flags=np.zeros(wavelength.size, dtype=np.int64))
     branches = [start]
     reflected = {}
+    spare = None               # the previous solve's outputs, overwritten by the next solve
     for i, surface in enumerate(system.surfaces):
         before, after = system.media[i], system.media[i + 1]
         layer = None
@@ -373,7 +374,7 @@ def trace(system, position_mm, direction, wavelength_um, polarisation=(1.0, 0.0)
         for branch in branches:
             point, path, flags = _intersect(branch, surface)
             res = solve_interface(branch.k, branch.field, surface.normal, media_indices[i], axes[i],
-                                  far_indices, far_axis, layer=layer)
+                                  far_indices, far_axis, layer=layer, out=spare)
             flags = flags | np.where(res.singular, TraceFlag.SINGULAR, 0)
             tunnelled = 0
             if layer is not None and not mirror:
@@ -424,6 +425,7 @@ def trace(system, position_mm, direction, wavelength_um, polarisation=(1.0, 0.0)
                     else:
                         child.label = f"{branch.label}|R{i}{mode_label}"
                         reflected[child.label] = _finish(child, shape, wavelength)
+            spare = res        # children hold copies only: its buffers serve the next solve
         branches = new_branches
     beams = {b.label or "-": _finish(b, shape, wavelength) for b in branches}
     return TraceResult(beams, reflected, pair)
