@@ -17,7 +17,8 @@ scaling     solver rate and peak memory per ray from 10⁴ to 10⁷ rays (compil
 
 Figures on a shared machine are noisy: compare the columns of one run, not runs on different
 days. The first compiled call in a process pays numba's compile (or cache load); the child
-processes call the kernel once before timing, and the "first call" row reports that cost.
+processes call the kernel (serial and parallel) before timing, and the "first call" row reports
+that cost.
 """
 import argparse
 import json
@@ -59,15 +60,38 @@ def case_solver(kernel, rays):
     normal = np.array([0.0, 0.0, 1.0])
     one = np.ones(rays)
     n_o, n_e = 1.6557 * one, 1.4849 * one                  # calcite near 590 nm, rounded
+    # Warm-up: small batches run serially, large ones in parallel: load (or compile) both.
     start = time.perf_counter()
     solve_interface(d[:10], e[:10], normal, (1.0, 1.0), normal, (1.6557, 1.4849), axis[:10])
+    solve_interface(d[:5000], e[:5000], normal, (1.0, 1.0), normal, (1.6557, 1.4849), axis[:5000])
     first = time.perf_counter() - start
     base = peak_mb()
-    start, cpu = time.perf_counter(), time.process_time()
-    res = solve_interface(d, e, normal, (one, one), normal, (n_o, n_e), axis)
-    elapsed, cpu = time.perf_counter() - start, time.process_time() - cpu
+
+    def timed(out=None):
+        start, cpu = time.perf_counter(), time.process_time()
+        res = solve_interface(d, e, normal, (one, one), normal, (n_o, n_e), axis, out=out)
+        return res, time.perf_counter() - start, time.process_time() - cpu
+
+    # The first full-size call takes its ~500 bytes per ray fresh from the operating system
+    # (page faults: several times the solve itself on this machine); later calls get memory
+    # the process has used before. Both are reported, and calls that overwrite the previous
+    # result's arrays (solve_interface(..., out=previous)).
+    res, first_large, _ = timed()
     del res
-    return {"rate": rays / elapsed, "cpu_rate": rays / cpu, "first_call_s": first,
+    fresh = []
+    for _ in range(3):
+        res, wall, cpu = timed()
+        fresh.append((wall, cpu))
+        del res
+    reused = []
+    res = None
+    for _ in range(3):
+        res, wall, cpu = timed(out=res)
+        reused.append((wall, cpu))
+    wall, cpu = (statistics.median(v) for v in zip(*fresh))
+    return {"rate": rays / wall, "cpu_rate": rays / cpu,
+            "rate_reused": rays / statistics.median(w for w, _ in reused),
+            "rate_first_large": rays / first_large, "first_call_s": first,
             "extra_mb": peak_mb() - base}
 
 
@@ -112,11 +136,14 @@ def case_trace(kernel, rays):
     lam = np.linspace(0.45, 1.0, 100)
     grid = np.linspace(-4, 4, side)
     offsets = np.stack(np.meshgrid(grid, grid), axis=-1)[:, :, None, :]
-    prism.trace(lam[:2], polarisation="unpolarised")
+    prism.trace(lam, offset_mm=offsets[:4, :4], polarisation="unpolarised")    # warm-up
     base = peak_mb()
-    start, cpu = time.perf_counter(), time.process_time()
-    prism.trace(lam, offset_mm=offsets, polarisation="unpolarised")
-    elapsed, cpu = time.perf_counter() - start, time.process_time() - cpu
+    runs = []
+    for _ in range(3):             # median of three in one process (the first pays page faults)
+        start, cpu = time.perf_counter(), time.process_time()
+        prism.trace(lam, offset_mm=offsets, polarisation="unpolarised")
+        runs.append((time.perf_counter() - start, time.process_time() - cpu))
+    elapsed, cpu = (statistics.median(v) for v in zip(*runs))
     return {"rate": side * side * lam.size / elapsed, "cpu_rate": side * side * lam.size / cpu,
             "extra_mb": peak_mb() - base}
 
@@ -137,8 +164,7 @@ def case_extinction(kernel, samples):
     from prismdesign.optics.interface import set_kernel
     set_kernel(kernel)
     prism, perturbed = _perturbed(samples)
-    extinction(perturbed if samples < 10 else _perturbed(4)[1], EXTINCTION_WAVELENGTHS,
-               nominal=prism)
+    extinction(_perturbed(min(samples, 1000))[1], EXTINCTION_WAVELENGTHS, nominal=prism)
     base = peak_mb()
     start, cpu = time.perf_counter(), time.process_time()
     extinction(perturbed, EXTINCTION_WAVELENGTHS, nominal=prism)
@@ -151,7 +177,7 @@ def case_raw_trace(kernel, samples):
     from prismdesign.optics.interface import set_kernel
     set_kernel(kernel)
     prism, perturbed = _perturbed(samples)
-    _perturbed(4)[1].trace(EXTINCTION_WAVELENGTHS, polarisation=(1.0, 0.0))
+    _perturbed(min(samples, 1000))[1].trace(EXTINCTION_WAVELENGTHS, polarisation=(1.0, 0.0))
     base = peak_mb()
     start, cpu = time.perf_counter(), time.process_time()
     perturbed.trace(EXTINCTION_WAVELENGTHS, polarisation=(1.0, 0.0), power_threshold=0.0)
@@ -241,7 +267,11 @@ def main(argv=None):
         res = measure(jobs, args.repeats)
         print(f"interface solves ({args.rays:,} rays, random incidence air -> calcite, random axes)")
         row("one ray per call, solves/s", {k: res[k + "single"] for k in kernels}, "rate")
+        row("batched, first large call in a process, /s", {k: res[k + "solver"] for k in kernels},
+            "rate_first_large")
         row("batched, solves/s", {k: res[k + "solver"] for k in kernels}, "rate")
+        row("batched, overwriting the last result, /s", {k: res[k + "solver"] for k in kernels},
+            "rate_reused")
         row("batched, solves per CPU-second (all threads)", {k: res[k + "solver"] for k in kernels},
             "cpu_rate")
         row("memory per ray while solving, bytes", {k: res[k + "solver"] for k in kernels},
