@@ -25,16 +25,17 @@ __all__ = ["kernel", "solve_rays"]
 
 
 _NO_CACHE_WARNED = []
-_OPTIONS = {"error_model": "numpy", "fastmath": {"arcp", "contract"}}
+_OPTIONS = {"error_model": "numpy"}
 
 
 def _jit(**options):
     """numba.njit with the project's options: cached, and numpy's rules for 1/0 and NaN.
 
-    Of numba's fast-math flags only two that keep IEEE semantics for NaN, infinities and
-    signed zeros: "contract" (fused multiply-adds) and "arcp" (x/y as x·(1/y), reusing the
-    reciprocal); together about 15 % faster (measured). Results then differ from the numpy
-    reference by rounding (≤ 1e-14 in power fractions on well-conditioned rays).
+    No fast-math flags. "arcp" (x/y as x·(1/y)) and "contract" (fused multiply-adds) were
+    about 15 % faster but broke exact-arithmetic cases: 1/y overflows for subnormal y where x/y
+    is finite (a Jones component of 1e-156 gave NaN power), and fused products turn exact zeros
+    (cross products of parallel vectors, a grazing flux) into rounding-sized values whose sign
+    picks a branch. Without them the kernel follows the numpy reference operation by operation.
     """
     def decorate(func):
         try:
