@@ -17,7 +17,8 @@ scaling     solver rate and peak memory per ray from 10⁴ to 10⁷ rays (compil
 
 Figures on a shared machine are noisy: compare the columns of one run, not runs on different
 days. The first compiled call in a process pays numba's compile (or cache load); the child
-processes call the kernel once before timing, and the "first call" row reports that cost.
+processes call the kernel (serial and parallel) before timing, and the "first call" row reports
+that cost.
 """
 import argparse
 import json
@@ -59,15 +60,39 @@ def case_solver(kernel, rays):
     normal = np.array([0.0, 0.0, 1.0])
     one = np.ones(rays)
     n_o, n_e = 1.6557 * one, 1.4849 * one                  # calcite near 590 nm, rounded
+    # Warm-up: small batches run serially, large ones in parallel: load (or compile) both.
     start = time.perf_counter()
     solve_interface(d[:10], e[:10], normal, (1.0, 1.0), normal, (1.6557, 1.4849), axis[:10])
+    solve_interface(d[:5000], e[:5000], normal, (1.0, 1.0), normal, (1.6557, 1.4849), axis[:5000])
     first = time.perf_counter() - start
     base = peak_mb()
-    start = time.perf_counter()
-    res = solve_interface(d, e, normal, (one, one), normal, (n_o, n_e), axis)
-    elapsed = time.perf_counter() - start
+
+    def timed(out=None):
+        start, cpu = time.perf_counter(), time.process_time()
+        res = solve_interface(d, e, normal, (one, one), normal, (n_o, n_e), axis, out=out)
+        return res, time.perf_counter() - start, time.process_time() - cpu
+
+    # The first full-size call takes its ~500 bytes per ray fresh from the operating system
+    # (page faults: several times the solve itself on this machine); later calls get memory
+    # the process has used before. Both are reported, and calls that overwrite the previous
+    # result's arrays (solve_interface(..., out=previous)).
+    res, first_large, _ = timed()
     del res
-    return {"rate": rays / elapsed, "first_call_s": first, "extra_mb": peak_mb() - base}
+    fresh = []
+    for _ in range(3):
+        res, wall, cpu = timed()
+        fresh.append((wall, cpu))
+        del res
+    reused = []
+    res = None
+    for _ in range(3):
+        res, wall, cpu = timed(out=res)
+        reused.append((wall, cpu))
+    wall, cpu = (statistics.median(v) for v in zip(*fresh))
+    return {"rate": rays / wall, "cpu_rate": rays / cpu,
+            "rate_reused": rays / statistics.median(w for w, _ in reused),
+            "rate_first_large": rays / first_large, "first_call_s": first,
+            "extra_mb": peak_mb() - base}
 
 
 def case_single(kernel, rays):
@@ -111,12 +136,16 @@ def case_trace(kernel, rays):
     lam = np.linspace(0.45, 1.0, 100)
     grid = np.linspace(-4, 4, side)
     offsets = np.stack(np.meshgrid(grid, grid), axis=-1)[:, :, None, :]
-    prism.trace(lam[:2], polarisation="unpolarised")
+    prism.trace(lam, offset_mm=offsets[:4, :4], polarisation="unpolarised")    # warm-up
     base = peak_mb()
-    start = time.perf_counter()
-    prism.trace(lam, offset_mm=offsets, polarisation="unpolarised")
-    elapsed = time.perf_counter() - start
-    return {"rate": side * side * lam.size / elapsed, "extra_mb": peak_mb() - base}
+    runs = []
+    for _ in range(3):             # median of three in one process (the first pays page faults)
+        start, cpu = time.perf_counter(), time.process_time()
+        prism.trace(lam, offset_mm=offsets, polarisation="unpolarised")
+        runs.append((time.perf_counter() - start, time.process_time() - cpu))
+    elapsed, cpu = (statistics.median(v) for v in zip(*runs))
+    return {"rate": side * side * lam.size / elapsed, "cpu_rate": side * side * lam.size / cpu,
+            "extra_mb": peak_mb() - base}
 
 
 def _perturbed(samples):
@@ -135,25 +164,26 @@ def case_extinction(kernel, samples):
     from prismdesign.optics.interface import set_kernel
     set_kernel(kernel)
     prism, perturbed = _perturbed(samples)
-    extinction(perturbed if samples < 10 else _perturbed(4)[1], EXTINCTION_WAVELENGTHS,
-               nominal=prism)
+    extinction(_perturbed(min(samples, 1000))[1], EXTINCTION_WAVELENGTHS, nominal=prism)
     base = peak_mb()
-    start = time.perf_counter()
+    start, cpu = time.perf_counter(), time.process_time()
     extinction(perturbed, EXTINCTION_WAVELENGTHS, nominal=prism)
-    elapsed = time.perf_counter() - start
-    return {"seconds": elapsed, "peak_mb": peak_mb(), "extra_mb": peak_mb() - base}
+    elapsed, cpu = time.perf_counter() - start, time.process_time() - cpu
+    return {"seconds": elapsed, "cpu_seconds": cpu, "peak_mb": peak_mb(),
+            "extra_mb": peak_mb() - base}
 
 
 def case_raw_trace(kernel, samples):
     from prismdesign.optics.interface import set_kernel
     set_kernel(kernel)
     prism, perturbed = _perturbed(samples)
-    _perturbed(4)[1].trace(EXTINCTION_WAVELENGTHS, polarisation=(1.0, 0.0))
+    _perturbed(min(samples, 1000))[1].trace(EXTINCTION_WAVELENGTHS, polarisation=(1.0, 0.0))
     base = peak_mb()
-    start = time.perf_counter()
+    start, cpu = time.perf_counter(), time.process_time()
     perturbed.trace(EXTINCTION_WAVELENGTHS, polarisation=(1.0, 0.0), power_threshold=0.0)
-    elapsed = time.perf_counter() - start
-    return {"seconds": elapsed, "peak_mb": peak_mb(), "extra_mb": peak_mb() - base}
+    elapsed, cpu = time.perf_counter() - start, time.process_time() - cpu
+    return {"seconds": elapsed, "cpu_seconds": cpu, "peak_mb": peak_mb(),
+            "extra_mb": peak_mb() - base}
 
 
 CASES = {"solver": case_solver, "single": case_single, "generaltmm": case_generaltmm,
@@ -237,7 +267,13 @@ def main(argv=None):
         res = measure(jobs, args.repeats)
         print(f"interface solves ({args.rays:,} rays, random incidence air -> calcite, random axes)")
         row("one ray per call, solves/s", {k: res[k + "single"] for k in kernels}, "rate")
+        row("batched, first large call in a process, /s", {k: res[k + "solver"] for k in kernels},
+            "rate_first_large")
         row("batched, solves/s", {k: res[k + "solver"] for k in kernels}, "rate")
+        row("batched, overwriting the last result, /s", {k: res[k + "solver"] for k in kernels},
+            "rate_reused")
+        row("batched, solves per CPU-second (all threads)", {k: res[k + "solver"] for k in kernels},
+            "cpu_rate")
         row("memory per ray while solving, bytes", {k: res[k + "solver"] for k in kernels},
             "extra_mb", "", 2**20 / args.rays)
         row("first call in a process, s", {k: res[k + "solver"] for k in kernels}, "first_call_s")
@@ -252,6 +288,7 @@ def main(argv=None):
         res = measure([(k, "trace", k, args.rays // 10) for k in kernels], args.repeats)
         print(f"unpolarised Wollaston traces (3 surfaces, all branches, {args.rays // 10:,} input rays)")
         row("input rays/s", res, "rate")
+        row("input rays per CPU-second (all threads)", res, "cpu_rate")
         row("memory per input ray, bytes", res, "extra_mb", "", 2**20 / (args.rays // 10))
     if "extinction" in parts:
         s = args.samples
@@ -261,12 +298,17 @@ def main(argv=None):
         row("analysis, s", {k: res[k + "extinction"] for k in kernels}, "seconds")
         row("raw polarised trace of the same rays, s", {k: res[k + "raw_trace"] for k in kernels},
             "seconds")
+        row("analysis, CPU-seconds (all threads)", {k: res[k + "extinction"] for k in kernels},
+            "cpu_seconds")
+        row("raw trace, CPU-seconds (all threads)", {k: res[k + "raw_trace"] for k in kernels},
+            "cpu_seconds")
         row("analysis peak memory, MB", {k: res[k + "extinction"] for k in kernels}, "peak_mb")
         row("raw trace peak memory, MB", {k: res[k + "raw_trace"] for k in kernels}, "peak_mb")
         for k in kernels:
             a, b = res[k + "extinction"], res[k + "raw_trace"]
             if "error" not in a and "error" not in b:
-                print(f"  {k}: analysis / raw trace = {a['seconds'] / b['seconds']:.2f}")
+                print(f"  {k}: analysis / raw trace = {a['seconds'] / b['seconds']:.2f} "
+                      f"(CPU time: {a['cpu_seconds'] / b['cpu_seconds']:.2f})")
     if "scaling" in parts:
         sizes = [n for n in (10_000, 100_000, 1_000_000, 10_000_000) if n <= args.max_scaling_rays]
         kernel = kernels[-1]
@@ -277,8 +319,8 @@ def main(argv=None):
             if "error" in r:
                 print(f"  {n:>12,} rays: {r['error']}")
                 continue
-            print(f"  {n:>12,} rays: {fmt(r['rate'])} solves/s, "
-                  f"{r['extra_mb'] * 2**20 / n:,.0f} bytes per ray")
+            print(f"  {n:>12,} rays: {fmt(r['rate'])} solves/s, {fmt(r['cpu_rate'])} per "
+                  f"CPU-second, {r['extra_mb'] * 2**20 / n:,.0f} bytes per ray")
 
 
 if __name__ == "__main__":

@@ -119,7 +119,8 @@ class InterfaceResult:
         and H = k × E.
     """
     __slots__ = ("coefficient", "power_fraction", "evanescent", "singular", "normal",
-                 "normal_component", "e_field", "ray_direction", "_tangential", "_k", "_h_field")
+                 "normal_component", "e_field", "ray_direction", "_tangential", "_k", "_h_field",
+                 "_buffers")
 
     def __init__(self, **values):
         for key, value in values.items():
@@ -311,7 +312,7 @@ def _solve_block(k_in, e_in, normal, n_o1, n_e1, c1, n_o2, n_e2, c2, layer, out,
 
 
 def solve_interface(wave_vector_in, field_in, normal, indices_1, axis_1, indices_2, axis_2,
-                    layer=None):
+                    layer=None, *, out=None):
     """Reflect and refract a plane wave at a plane interface.
 
     Parameters
@@ -329,6 +330,10 @@ def solve_interface(wave_vector_in, field_in, normal, indices_1, axis_1, indices
     layer : tuple, optional
         (n_layer, wavelength_um, thickness_mm) of a coherent isotropic thin layer between the
         media; None for a bare interface.
+    out : InterfaceResult, optional
+        A result of an earlier call with the same number of rays (on the same kernel) whose
+        arrays are overwritten instead of allocating new ones (~500 bytes per ray); that earlier
+        result must not be used afterwards. Ignored when the sizes or kernels differ.
 
     Returns
     -------
@@ -354,7 +359,7 @@ def solve_interface(wave_vector_in, field_in, normal, indices_1, axis_1, indices
     size = int(np.prod(shape))
     if active_kernel() == "compiled":
         return _solve_compiled(k_in, e_in, normal, n_o1, n_e1, axis_1, n_o2, n_e2, axis_2,
-                               layer_arrays, shape, size)
+                               layer_arrays, shape, size, _reusable(out, "compiled", size))
 
     def vectors(a):
         return np.broadcast_to(a, shape + (3,)).reshape(size, 3).T
@@ -365,11 +370,12 @@ def solve_interface(wave_vector_in, field_in, normal, indices_1, axis_1, indices
     columns = [vectors(k_in), vectors(e_in), vectors(normal), scalars(n_o1), scalars(n_e1),
                vectors(axis_1), scalars(n_o2), scalars(n_e2), vectors(axis_2)]
     layer_flat = [scalars(v) for v in layer_arrays]
-    out = {"coefficient": np.empty((4, size), complex), "power_fraction": np.empty((4, size)),
-           "evanescent": np.empty((4, size), bool), "singular": np.empty(size, bool),
-           "normal": np.empty((3, size)), "normal_component": np.empty((4, size), complex),
-           "_tangential": np.empty((3, size)), "e_field": np.empty((3, 4, size), complex),
-           "ray_direction": np.empty((3, 4, size))}
+    out = _reusable(out, "numpy", size) or {
+        "coefficient": np.empty((4, size), complex), "power_fraction": np.empty((4, size)),
+        "evanescent": np.empty((4, size), bool), "singular": np.empty(size, bool),
+        "normal": np.empty((3, size)), "normal_component": np.empty((4, size), complex),
+        "_tangential": np.empty((3, size)), "e_field": np.empty((3, 4, size), complex),
+        "ray_direction": np.empty((3, 4, size))}
 
     def run(start):
         block = slice(start, min(start + BLOCK_SIZE, size))
@@ -383,7 +389,7 @@ def solve_interface(wave_vector_in, field_in, normal, indices_1, axis_1, indices
         run(start)
     # Views with the ray axis first, then split into the broadcast shape (no copies).
     views = {key: value.T.reshape(shape + value.shape[:-1][::-1]) for key, value in out.items()}
-    return InterfaceResult(**views)
+    return InterfaceResult(**views, _buffers=("numpy", size, out))
 
 
 #: Rays per work item of the compiled kernel (items are shared out among the threads).
@@ -396,6 +402,10 @@ def _kernel_input(a, shape, size, tail, dtype):
     """A C-contiguous, writeable (m, *tail) array with m = size, or m = 1 for a value shared by
     every ray (the kernel then reads row 0): no copy of a broadcast constant."""
     lead = a.shape[:a.ndim - len(tail)]
+    if lead and a.size and not any(a.strides[:len(lead)]):
+        # A broadcast constant (all leading strides zero), e.g. one optic axis for every ray.
+        a = a[(0,) * len(lead)]
+        lead = ()
     if lead == shape:
         flat = a.reshape((size,) + tail)
     elif int(np.prod(lead)) == 1:
@@ -407,8 +417,17 @@ def _kernel_input(a, shape, size, tail, dtype):
     return flat if flat.flags.writeable else flat.copy()
 
 
+def _reusable(result, kernel, size):
+    """The output buffers of an earlier result, when they fit this call (else None)."""
+    buffers = getattr(result, "_buffers", None) if result is not None else None
+    if buffers is None or buffers[0] != kernel or buffers[1] != size:
+        return None
+    result._buffers = None                   # handed over: the old result cannot give them twice
+    return buffers[2]
+
+
 def _solve_compiled(k_in, e_in, normal, n_o1, n_e1, axis_1, n_o2, n_e2, axis_2, layer_arrays,
-                    shape, size):
+                    shape, size, out=None):
     """solve_interface through the compiled kernel; outputs are ray-first and C-contiguous."""
     from .compiled_interface import kernel, solve_rays
 
@@ -422,11 +441,12 @@ def _solve_compiled(k_in, e_in, normal, n_o1, n_e1, axis_1, n_o2, n_e2, axis_2, 
         layer_n, layer_wl, layer_t = (sca(v) for v in layer_arrays)
     else:
         layer_n = layer_wl = layer_t = np.zeros(1)
-    out = {"coefficient": np.empty((size, 4), complex), "power_fraction": np.empty((size, 4)),
-           "evanescent": np.empty((size, 4), bool), "singular": np.empty(size, bool),
-           "normal": np.empty((size, 3)), "normal_component": np.empty((size, 4), complex),
-           "_tangential": np.empty((size, 3)), "e_field": np.empty((size, 4, 3), complex),
-           "ray_direction": np.empty((size, 4, 3))}
+    out = out or {
+        "coefficient": np.empty((size, 4), complex), "power_fraction": np.empty((size, 4)),
+        "evanescent": np.empty((size, 4), bool), "singular": np.empty(size, bool),
+        "normal": np.empty((size, 3)), "normal_component": np.empty((size, 4), complex),
+        "_tangential": np.empty((size, 3)), "e_field": np.empty((size, 4, 3), complex),
+        "ray_direction": np.empty((size, 4, 3))}
     inputs = (vec(k_in), vec(e_in, complex), vec(normal), sca(n_o1), sca(n_e1), vec(axis_1),
               sca(n_o2), sca(n_e2), vec(axis_2), layer_n, layer_wl, layer_t, bool(layer_arrays),
               DEGENERATE_AXIS_TOLERANCE)
@@ -440,4 +460,4 @@ def _solve_compiled(k_in, e_in, normal, n_o1, n_e1, axis_1, n_o2, n_e2, axis_2, 
     else:
         kernel(*inputs, _COMPILED_CHUNK, *outputs)
     views = {key: value.reshape(shape + value.shape[1:]) for key, value in out.items()}
-    return InterfaceResult(**views)
+    return InterfaceResult(**views, _buffers=("compiled", size, out))

@@ -49,6 +49,49 @@ class TraceFlag:
     INFORMATIONAL = FRUSTRATED_TOTAL_REFLECTION | INCOHERENT_LAYER
 
 
+class _History:
+    """Per-point arrays of a branch (flat ray axis), stacked only when the history is read.
+
+    Most analyses read exit values alone; stacking every branch's full history at the end of
+    each trace cost about a sixth of a prism trace.
+    """
+
+    __slots__ = ("items", "shape")
+
+    def __init__(self, items, shape):
+        self.items, self.shape = items, shape
+
+    def last(self):
+        # Sibling branches share their points: hand out a read-only view, not the array.
+        view = self.items[-1].reshape(self.shape)
+        view.flags.writeable = False
+        return view
+
+    def stacked(self):
+        return np.stack([item.reshape(self.shape) for item in self.items])
+
+
+def _last(value):
+    return value.last() if isinstance(value, _History) else value[-1]
+
+
+def _history_property(name):
+    """A Beam attribute of shape (n_points, ...) kept as a _History until first read."""
+    slot = "_" + name
+
+    def get(self):
+        value = getattr(self, slot)
+        if isinstance(value, _History):
+            value = value.stacked()
+            setattr(self, slot, value)
+        return value
+
+    def set(self, value):
+        setattr(self, slot, value)
+
+    return property(get, set)
+
+
 class Beam:
     """One branch of a trace: a labelled beam with its full history.
 
@@ -74,26 +117,31 @@ class Beam:
     wavelength_um : ndarray, shape (...)
     """
 
-    __slots__ = ("label", "positions_mm", "wave_normals", "ray_directions", "indices", "field",
-                 "power", "optical_path_mm", "flags", "wavelength_um", "reflected")
+    __slots__ = ("label", "_positions_mm", "_wave_normals", "_ray_directions", "_indices",
+                 "field", "power", "optical_path_mm", "flags", "wavelength_um", "reflected")
 
     def __init__(self, **values):
         for key, value in values.items():
             setattr(self, key, value)
 
+    positions_mm = _history_property("positions_mm")
+    wave_normals = _history_property("wave_normals")
+    ray_directions = _history_property("ray_directions")
+    indices = _history_property("indices")
+
     @property
     def exit_position_mm(self):
         """Point on the last surface met, shape (..., 3)."""
-        return self.positions_mm[-1]
+        return _last(self._positions_mm)
 
     @property
     def exit_direction(self):
         """Ray direction after the last surface, shape (..., 3)."""
-        return self.ray_directions[-1]
+        return _last(self._ray_directions)
 
     @property
     def exit_wave_normal(self):
-        return self.wave_normals[-1]
+        return _last(self._wave_normals)
 
     def deviation_deg(self):
         """In-plane and out-of-plane deviation of the exit ray from z, in degrees.
@@ -141,7 +189,7 @@ class Beam:
         r = self.exit_position_mm
         denom = dot(d, n)
         t = dot(p - r, n) / np.where(denom != 0, denom, np.nan)
-        extra = t * self.indices[-1] * dot(self.exit_wave_normal, d)
+        extra = t * _last(self._indices) * dot(self.exit_wave_normal, d)
         return r + t[..., None] * d, self.optical_path_mm + extra
 
     @property
@@ -300,10 +348,10 @@ def _finish(branch, shape, wavelength):
     def reshape(a, tail):
         return np.asarray(a).reshape(shape + tail)
     return Beam(label=branch.label,
-                positions_mm=np.stack([reshape(p, (3,)) for p in branch.points]),
-                wave_normals=np.stack([reshape(k, (3,)) for k in branch.normals]),
-                ray_directions=np.stack([reshape(s, (3,)) for s in branch.rays]),
-                indices=np.stack([reshape(n, ()) for n in branch.indices]),
+                positions_mm=_History(branch.points, shape + (3,)),
+                wave_normals=_History(branch.normals, shape + (3,)),
+                ray_directions=_History(branch.rays, shape + (3,)),
+                indices=_History(branch.indices, shape),
                 field=reshape(branch.field, (3,)), power=reshape(branch.power, ()),
                 optical_path_mm=reshape(branch.path, ()), flags=reshape(branch.flags, ()),
                 wavelength_um=reshape(wavelength, ()), reflected=None)
@@ -363,6 +411,7 @@ def trace(system, position_mm, direction, wavelength_um, polarisation=(1.0, 0.0)
     branches = [start]
     reflected = {}
     layer_treatments = {}
+    spare = None               # the previous solve's outputs, overwritten by the next solve
     for i, surface in enumerate(system.surfaces):
         before, after = system.media[i], system.media[i + 1]
         layer = thin = None
@@ -386,7 +435,8 @@ def trace(system, position_mm, direction, wavelength_um, polarisation=(1.0, 0.0)
             point, path, flags = _intersect(branch, flat_surface)
             if layer is None:
                 res = solve_interface(branch.k, branch.field, flat_surface.normal,
-                                      media_indices[i], axes[i], far_indices, far_axis)
+                                      media_indices[i], axes[i], far_indices, far_axis,
+                                      out=spare)
             else:
                 res, incoherent = solve_layered_interface(
                     branch.k, branch.field, flat_surface.normal, media_indices[i], axes[i],
@@ -398,9 +448,19 @@ def trace(system, position_mm, direction, wavelength_um, polarisation=(1.0, 0.0)
                 k_n = dot(branch.k, flat_surface.normal)
                 tunnelled = np.where(dot(branch.k, branch.k) - k_n * k_n > layer[0] ** 2,
                                      TraceFlag.FRUSTRATED_TOTAL_REFLECTION, 0)
-            amplitude = (np.exp(1j * np.angle(res.coefficient))
-                         * np.sqrt(res.power_fraction * branch.power[:, None]))
-            amplitude = np.where(res.singular[:, None], 0.0, amplitude)
+            powers = {}
+
+            def wave_power(j):
+                # Power of wave j (zero where singular), formed only for the waves looked at.
+                if j not in powers:
+                    powers[j] = np.where(res.singular, 0.0, res.power_fraction[:, j] * branch.power)
+                return powers[j]
+
+            def amplitude(j):
+                # Power-normalised amplitude: the coefficient's phase with the wave's power as
+                # squared modulus (exp(i arg c) rather than c/|c|, which overflows for tiny c).
+                a = np.exp(1j * np.angle(res.coefficient[:, j])) * np.sqrt(wave_power(j))
+                return np.where(res.singular, 0.0, a)
             if mirror:
                 outgoing = [("t", (2, 3), before)]
             else:
@@ -412,12 +472,12 @@ def trace(system, position_mm, direction, wavelength_um, polarisation=(1.0, 0.0)
                     groups = [("s" if side == "r" else "", modes)]
                 for mode_label, group in groups:
                     j0 = group[0]
-                    power = sum(np.abs(amplitude[:, j]) ** 2 for j in group)
+                    power = sum(wave_power(j) for j in group)
                     if not np.any(power >= power_threshold * input_power):
                         continue
-                    field_out = sum(amplitude[:, j, None] * res.e_field[:, j] for j in group)
+                    field_out = sum(amplitude(j)[:, None] * res.e_field[:, j] for j in group)
                     dead = np.all(res.evanescent[:, list(group)], axis=-1) | res.singular
-                    k_new = np.where(dead[:, None], branch.k, res.wave_vector[:, j0].real)
+                    k_new = np.where(dead[:, None], branch.k, res.propagating_wave_vector(j0))
                     s_new = np.where(dead[:, None], branch.rays[-1], res.ray_direction[:, j0])
                     index = np.sqrt(dot(k_new, k_new))
                     child = branch.child(
@@ -432,6 +492,7 @@ def trace(system, position_mm, direction, wavelength_um, polarisation=(1.0, 0.0)
                     else:
                         child.label = f"{branch.label}|R{i}{mode_label}"
                         reflected[child.label] = _finish(child, shape, wavelength)
+            spare = res        # children hold copies only: its buffers serve the next solve
         branches = new_branches
     beams = {b.label or "-": _finish(b, shape, wavelength) for b in branches}
     return TraceResult(beams, reflected, pair, layer_treatments)
