@@ -313,3 +313,37 @@ def test_search_with_nothing_allowed_is_a_one_line_error():
     with pytest.raises(ValueError, match="can meet a split") as error:
         design.search(requirement)
     assert "\n" not in str(error.value)
+
+
+def test_two_crystal_split_held_flat_over_temperature():
+    """Two Wollastons of crystals with different thermo-optic slopes can hold the split over a
+    temperature range. First order (thin-prism split 2Δn tan θ, Hecht §8.4.3, from memory, with
+    the data files' linear dn/dT): 2Δn₁t₁ + 2Δn₂t₂ = split and 2(dΔn₁/dT)t₁ + 2(dΔn₂/dT)t₂ = 0;
+    the exact solve lands near it and its split over 0–40 °C varies far less than a
+    single-crystal design's (both from the analysis layer's temperature trace)."""
+    lam, low, high = 0.6328, 0.0, 40.0
+    requirement = design.Requirement(lines_um=[lam], split_deg=5.0, tolerance=0.005,
+                                     temperature_range_c=(low, high))
+    single = design.solve("wollaston", "calcite", requirement)
+    pair = design.solve("two_crystal_wollaston", ("calcite", "alpha_bbo"), requirement)
+    assert pair.meets and not single.meets
+    assert "temperatures" in pair.method
+
+    def spread(prism):
+        crystals = [i for i, p in enumerate(prism.pieces) if p.is_crystal]
+        result = pd.analysis.temperature_dependence(prism, [low, high], [lam], piece=crystals)
+        return float(np.ptp(result.split_deg))
+    assert spread(single.prism) > 0.01
+    assert spread(pair.prism) < 1e-4 * spread(single.prism)
+
+    def dn(name, t):
+        n_o, n_e = pd.material(name).indices(lam, t)
+        return float(n_e - n_o)
+    matrix = np.array([[2 * dn("calcite", 20.0), 2 * dn("alpha_bbo", 20.0)],
+                       [2 * (dn("calcite", high) - dn("calcite", low)) / (high - low),
+                        2 * (dn("alpha_bbo", high) - dn("alpha_bbo", low)) / (high - low)]])
+    t = np.linalg.solve(matrix, [np.deg2rad(5.0) * np.sign(dn("calcite", 20.0)), 0.0])
+    t = -t if t[0] < 0 else t
+    first, second = np.rad2deg(np.arctan(t))
+    assert pair.parameters["first_wedge_deg"] == pytest.approx(first, abs=0.05)
+    assert pair.parameters["second_wedge_deg"] == pytest.approx(second, abs=0.05)

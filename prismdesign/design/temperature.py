@@ -13,7 +13,17 @@ import numpy as np
 from ..analysis.temperature import has_thermo_optic_data, temperature_dependence
 from .merit import Margin, figures as nominal_figures
 
-__all__ = ["TemperatureSweep", "temperature_sweep", "temperature_margin"]
+__all__ = ["TemperatureSweep", "temperature_sweep", "temperature_margin", "heated_pieces"]
+
+
+def heated_pieces(prism):
+    """Indices of the crystal pieces: the ones a design's temperature range heats.
+
+    Isotropic spacers (the air between two prisms in series, a glass window) stay at their
+    data temperature: their index changes by ~1e-6 per °C on both beams alike and moves no
+    split to first order (common practice, no source), and air carries no dn/dT in the library.
+    """
+    return [i for i, p in enumerate(prism.pieces) if p.is_crystal]
 
 
 @dataclass(frozen=True)
@@ -60,7 +70,8 @@ def temperature_sweep(prism, requirement, temperature_c):
     """
     main = nominal_figures(prism, requirement).main_labels
     result = temperature_dependence(prism, temperature_c, requirement.wavelengths_um,
-                                    main_labels=main if len(main) == 2 else None)
+                                    main_labels=main if len(main) == 2 else None,
+                                    piece=heated_pieces(prism))
     split_deg = result.split_deg if len(result.main_labels) == 2 else None
     return TemperatureSweep(result.temperature_c, result.wavelength_um, split_deg,
                             dict(result.deviation_deg), result.valid_range_c)
@@ -91,13 +102,14 @@ def temperature_margin(prism, requirement, main_labels):
         return None
     target, tol = requirement.target_value, requirement.target_tolerance
     name = "split over temperature"
-    missing = sorted({getattr(p.material, "name", "?") for p in prism.pieces
-                      if not has_thermo_optic_data(p.material)})
+    heated = heated_pieces(prism)
+    missing = sorted({getattr(prism.pieces[i].material, "name", "?") for i in heated
+                      if not has_thermo_optic_data(prism.pieces[i].material)})
     if missing:
         return Margin(name, np.nan, target, np.nan, "deg", tol,
                       f"no thermo-optic data for {', '.join(missing)}: the split cannot be "
                       f"held over {span[0]:g}-{span[1]:g} °C")
-    result = temperature_dependence(prism, span, requirement.wavelengths_um,
+    result = temperature_dependence(prism, span, requirement.wavelengths_um, piece=heated,
                                     main_labels=main_labels)
     error = np.abs(result.split_deg - target)
     if np.any(np.isnan(error)):
