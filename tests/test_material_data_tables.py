@@ -288,7 +288,7 @@ def test_data_file_loads(path):
     assert 0 < lo < hi
     # every file evaluates to finite indices above 1 over its whole validity range
     wavelength_um = np.linspace(lo, hi, 50)
-    axes = ("n_o", "n_e") if mat.kind == "uniaxial" else ("n",)
+    axes = {"uniaxial": ("n_o", "n_e"), "biaxial": ("n_x", "n_y", "n_z")}.get(mat.kind, ("n",))
     for axis in axes:
         n = getattr(mat, axis)(wavelength_um)
         assert np.all(np.isfinite(n)) and np.all(n >= 1.0)
