@@ -425,3 +425,33 @@ def test_prism_rotation_turns_the_crystal_axes():
     turned = prism.rotated(90.0)
     assert np.allclose(turned.pieces[0].crystal_axes, [[0, 1, 0], [-1, 0, 0], [0, 0, 1]],
                        atol=1e-15)
+
+
+@pytest.mark.parametrize("layered", [False, True])
+def test_ktp_wedge_pair_power_of_y_polarised_beam(layered):
+    # The y-polarised "sf" beam is an s wave (D normal to the x–z plane of incidence) with the
+    # fixed indices n_z, then n_x: its power is a product of Fresnel transmittances (Born & Wolf
+    # §1.5.2) at the entrance (normal incidence), the tilted interface — bare, or with a 5 µm
+    # air gap whose bounces add in power (tests/closed_forms.py) — and the exit face.
+    from closed_forms import fresnel_transmittance, incoherent_slab_transmittance
+    alpha = np.deg2rad(15.0)
+    first = crystal_axes_from_vectors([1, 0, 0], [0, 1, 0])
+    second = crystal_axes_from_vectors([0, 1, 0], [0, 0, 1])
+    interfaces = [dict(material="air", thickness_mm=0.005, treatment="incoherent")] if layered \
+        else None
+    prism = free_stack([dict(material="ktp", crystal_axes=first, exit_face_deg=15.0,
+                             thickness_mm=3.0),
+                        dict(material="ktp", crystal_axes=second, thickness_mm=3.0)],
+                       interfaces=interfaces)
+    lam = 1.064
+    beam = prism.trace(wavelength_um=lam, polarisation=(0.0, 1.0))["sf"]
+    n_x, n_y, n_z = material("ktp").indices(lam)
+    n_air = material("air").n(lam)
+    inside = np.arcsin(n_z * np.sin(alpha) / n_x) - alpha        # angle from z in wedge 2
+    expected = fresnel_transmittance(n_air, n_z, 0.0, "s")
+    if layered:
+        expected *= incoherent_slab_transmittance(n_z, n_air, n_x, alpha, "s")
+    else:
+        expected *= fresnel_transmittance(n_z, n_x, alpha, "s")
+    expected *= fresnel_transmittance(n_x, n_air, abs(inside), "s")
+    assert abs(float(beam.power) - expected) <= 1e-12
