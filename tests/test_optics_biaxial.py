@@ -408,6 +408,8 @@ def test_medium_and_piece_inputs_are_checked():
         Medium(ktp, crystal_axes=np.diag([1.0, 1.0, -1.0]))
     with pytest.raises(ValueError, match="proper rotation"):
         Medium(ktp, crystal_axes=[[1, 0, 0], [0, 1, 0], [0, 0.1, 1]])
+    with pytest.raises(ValueError, match="one 3 × 3 rotation"):
+        Medium(ktp, crystal_axes=np.stack([np.eye(3)] * 2))
     with pytest.raises(ValueError, match="crystal_axes belong to biaxial"):
         Medium(material("calcite"), optic_axis=[0, 0, 1], crystal_axes=np.eye(3))
     with pytest.raises(ValueError, match="perpendicular"):

@@ -127,7 +127,11 @@ class Medium:
             if self.crystal_axes is None or self.optic_axis is not None:
                 raise ValueError(f"medium of biaxial material {name!r} needs crystal_axes (a 3 × 3 "
                                  f"rotation, rows: its x, y, z principal axes) and no optic_axis")
-            object.__setattr__(self, "crystal_axes", check_crystal_axes(self.crystal_axes))
+            axes = check_crystal_axes(self.crystal_axes)
+            if axes.shape != (3, 3):
+                raise ValueError(f"crystal_axes of {name!r} must be one 3 × 3 rotation, got shape "
+                                 f"{axes.shape} (per-sample orientations are not supported yet)")
+            object.__setattr__(self, "crystal_axes", axes)
         elif self.crystal_axes is not None:
             raise ValueError(f"crystal_axes belong to biaxial materials; {name!r} is "
                              f"{kind or 'not a crystal'} (give a uniaxial crystal an optic_axis)")
