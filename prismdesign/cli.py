@@ -99,6 +99,8 @@ def _temperature_line(item, t, from_file: bool) -> str:
 
 
 def _has_thermo(item) -> bool:
+    if item.kind == "biaxial":
+        return False                       # no thermo-optic model for biaxial crystals yet
     return (item.dn_dt_o_per_c if item.kind == "uniaxial" else item.dn_dt_per_c) is not None
 
 
@@ -122,6 +124,11 @@ def _index_command(args) -> str:
         headers = ["wavelength (um)", "n_o", "n_e", "n_e - n_o", "group n_o", "group n_e"]
         rows = [[f"{w:.4f}", f"{a:.6f}", f"{b:.6f}", f"{b - a:+.6f}", f"{c:.6f}", f"{d:.6f}"]
                 for w, a, b, c, d in zip(lam, n_o, n_e, g_o, g_e)]
+    elif item.kind == "biaxial":
+        n_x, n_y, n_z = item.indices(lam, t)
+        headers = ["wavelength (um)", "n_x", "n_y", "n_z", "n_z - n_x"]
+        rows = [[f"{w:.4f}", f"{a:.6f}", f"{b:.6f}", f"{c:.6f}", f"{c - a:+.6f}"]
+                for w, a, b, c in zip(lam, n_x, n_y, n_z)]
     else:
         n, g = item.n(lam, t), item.group_index(lam, t)
         headers = ["wavelength (um)", "n", "group n"]

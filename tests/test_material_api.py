@@ -283,8 +283,9 @@ BAD = [
     (_set(CALCITE, ["schema"], 2), r"key 'schema' = 2 is not allowed; allowed: 1"),
     (_set(CALCITE, ["colour"], "clear"), r"unknown key 'colour' = 'clear'; allowed: aliases, "),
     (_set(CALCITE, ["ordinary", "Q"], 1.0), r"\[ordinary\]: unknown key 'Q' = 1.0 for formula"),
-    (_set(CALCITE, ["kind"], "biaxial"), r"key 'kind' = 'biaxial' is not allowed; allowed: "
-                                         r"'uniaxial', 'isotropic'"),
+    (_set(CALCITE, ["kind"], "triaxial"), r"key 'kind' = 'triaxial' is not allowed; allowed: "
+                                          r"'uniaxial', 'isotropic', 'biaxial'"),
+    (_set(CALCITE, ["kind"], "biaxial"), r"unknown key 'optical_sign' = 'negative'; allowed: .*x, y, z"),
     (_set(CALCITE, ["optical_sign"], "neg"), r"key 'optical_sign' = 'neg' is not allowed"),
     (_set(CALCITE, ["optical_sign"], "positive"),
      r"optical_sign = 'positive' but the data give mean n_e - n_o = -0.1"),

@@ -24,7 +24,7 @@ N_WAVELENGTHS = 60
 
 # our name (or "name/dataset" for a material with several datasets) -> {axis: (shelf, book,
 # page)} of the database page that copies the same paper.  axis "o"/"e" for uniaxial crystals,
-# "n" for isotropic media.
+# "x"/"y"/"z" for biaxial crystals, "n" for isotropic media.
 SAME_PAPER = {
     # G. Ghosh, Opt. Commun. 163, 95-102 (1999)
     "calcite": {"o": ("main", "CaCO3", "Ghosh-o"), "e": ("main", "CaCO3", "Ghosh-e")},
@@ -54,6 +54,13 @@ SAME_PAPER = {
     "cdse": {"o": ("main", "CdSe", "Lisitsa-o"), "e": ("main", "CdSe", "Lisitsa-e")},
     # E. Takaoka, K. Kato, Appl. Opt. 38, 4577-4580 (1999)
     "aggas2": {"o": ("main", "AgGaS2", "Takaoka-o"), "e": ("main", "AgGaS2", "Takaoka-e")},
+    # K. Kato, E. Takaoka, Appl. Opt. 41, 5040-5044 (2002), 20 °C (biaxial: x, y, z = α, β, γ)
+    "ktp": {"x": ("main", "KTiOPO4", "Kato-α"), "y": ("main", "KTiOPO4", "Kato-β"),
+            "z": ("main", "KTiOPO4", "Kato-γ")},
+    # F. Hanson, D. Dick, Opt. Lett. 16, 205-207 (1991), fit to C. Chen et al., J. Opt. Soc. Am.
+    # B 6, 616-621 (1989); the database files it under "Chen"
+    "lbo": {"x": ("main", "LiB3O5", "Chen-α"), "y": ("main", "LiB3O5", "Chen-β"),
+            "z": ("main", "LiB3O5", "Chen-γ")},
     # P. E. Ciddor, Appl. Opt. 35, 1566-1573 (1996), standard air
     "air": {"n": ("other", "air", "Ciddor")},
     # I. H. Malitson, J. Opt. Soc. Am. 55, 1205-1208 (1965)
@@ -73,7 +80,8 @@ NOT_IN_DATABASE = {
 
 
 def _axis(mat, axis):
-    return getattr(mat, {"o": "n_o", "e": "n_e", "n": "n"}[axis])
+    return getattr(mat, {"o": "n_o", "e": "n_e", "n": "n", "x": "n_x", "y": "n_y",
+                         "z": "n_z"}[axis])
 
 
 def _material(key):

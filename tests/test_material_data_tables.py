@@ -102,6 +102,17 @@ BOND_CDSE = [  # wavelength_um, n_o, n_e
     (2.80, 2.4562, 2.4757), (3.20, 2.4532, 2.4726), (3.60, 2.4509, 2.4702),
     (4.00, 2.4491, 2.4685),
 ]
+# Biaxial crystals: principal indices n_x, n_y, n_z printed on crystal makers' data sheets
+# (KTP: Azure Photonics KTP sheet, www.azurephotonicsus.com/material/crystals/KTP.htm; LBO: PM
+# Optics lithium triborate sheet, www.pmoptics.com/lithium_triborate.html), both read in 2026.
+# They come from other measurements (other growths) than the fits we carry; KTP varies between
+# growths in the fourth decimal, hence the 5e-4 tolerance (observed ≤ 2.8e-4).
+MAKER_SHEETS = [
+    ("ktp", 1.064, (1.7377, 1.7453, 1.8297)), ("ktp", 0.532, (1.7780, 1.7886, 1.8887)),
+    ("lbo", 1.064, (1.5656, 1.5905, 1.6055)), ("lbo", 0.532, (1.5785, 1.6065, 1.6212)),
+]
+for name, lam, values in MAKER_SHEETS:
+    TABLE += [(name, axis, lam, value, 5e-4) for axis, value in zip("xyz", values)]
 for lam, n_o, n_e in BOND_RUTILE:
     TABLE += [("rutile", "o", lam, n_o, 1.5e-2), ("rutile", "e", lam, n_e, 1.5e-2)]
 for lam, n_o, n_e in BOND_CDSE:
@@ -125,7 +136,8 @@ def _every_dataset():
 
 def _index(name, axis, wavelength_um):
     mat = _material(name)
-    return getattr(mat, {"o": "n_o", "e": "n_e", "n": "n"}[axis])(wavelength_um)
+    return getattr(mat, {"o": "n_o", "e": "n_e", "n": "n", "x": "n_x", "y": "n_y",
+                         "z": "n_z"}[axis])(wavelength_um)
 
 
 @pytest.mark.parametrize("name, axis, wavelength_um, expected, tolerance", TABLE,
@@ -135,7 +147,7 @@ def test_tabulated_index(name, axis, wavelength_um, expected, tolerance):
 
 
 def test_every_crystal_has_an_independent_check():
-    crystals = {k for k in _every_dataset() if _material(k).kind == "uniaxial"}
+    crystals = {k for k in _every_dataset() if _material(k).kind in ("uniaxial", "biaxial")}
     # AgGaS2 has no tabulated index available here; it is checked against an independent
     # measurement in test_aggas2_against_independent_measurement below.
     assert crystals == {row[0] for row in TABLE} | {"aggas2"}
@@ -288,7 +300,7 @@ def test_data_file_loads(path):
     assert 0 < lo < hi
     # every file evaluates to finite indices above 1 over its whole validity range
     wavelength_um = np.linspace(lo, hi, 50)
-    axes = ("n_o", "n_e") if mat.kind == "uniaxial" else ("n",)
+    axes = {"uniaxial": ("n_o", "n_e"), "biaxial": ("n_x", "n_y", "n_z")}.get(mat.kind, ("n",))
     for axis in axes:
         n = getattr(mat, axis)(wavelength_um)
         assert np.all(np.isfinite(n)) and np.all(n >= 1.0)

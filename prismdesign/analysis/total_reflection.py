@@ -89,6 +89,9 @@ def surface_margins(beam, system):
         k = beam.wave_normals[s] * beam.indices[s][..., None]
         k_t = k - dot(k, n_hat)[..., None] * n_hat
         kt2 = dot(k_t, k_t)
+        if getattr(medium, "crystal_axes", None) is not None:
+            raise ValueError(f"total-reflection margins are not available for biaxial pieces "
+                             f"({medium.name}) yet; allowed: uniaxial and isotropic pieces")
         n_o, n_e = medium.indices(lam)
         if medium.is_crystal:
             axis = np.broadcast_to(medium.optic_axis, k.shape)

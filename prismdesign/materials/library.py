@@ -86,9 +86,10 @@ def save_material(material, path) -> Path:
     pathlib.Path
         The written path.
     """
-    if getattr(material, "kind", None) not in ("isotropic", "uniaxial") or not hasattr(
+    if getattr(material, "kind", None) not in ("isotropic", "uniaxial", "biaxial") or not hasattr(
             material, "validity_um"):
-        raise ValueError(f"material must be an IsotropicMaterial or UniaxialMaterial, got "
+        raise ValueError(f"material must be an IsotropicMaterial, UniaxialMaterial or "
+                         f"BiaxialMaterial, got "
                          f"{type(material).__name__} {material!r:.60}")
     if not isinstance(path, (str, os.PathLike)):
         raise ValueError(f"path = {path!r} must be a file name (str or os.PathLike)")

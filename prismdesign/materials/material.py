@@ -1,7 +1,9 @@
-"""Material objects: isotropic and uniaxial media with published dispersion and provenance.
+"""Material objects: isotropic, uniaxial and biaxial media with published dispersion and provenance.
 
-Both kinds answer ``indices(wavelength_um, temperature_c=None) -> (n_o, n_e)`` (an isotropic
-medium returns ``(n, n)``), which is what the ray tracer uses.  Scalar input gives a float;
+Isotropic and uniaxial media answer ``indices(wavelength_um, temperature_c=None) -> (n_o, n_e)``
+(an isotropic medium returns ``(n, n)``), which is what the ray tracer uses; a biaxial crystal
+answers ``(n_x, n_y, n_z)``, its three principal indices (the tracer's medium adds the crystal's
+orientation, see :class:`~prismdesign.optics.Medium`).  Scalar input gives a float;
 arrays broadcast (wavelength against temperature).  The citation, validity range and data
 temperature travel with the object.
 """
@@ -21,6 +23,7 @@ from .activity import HANDEDNESS, ActiveIndices, OpticalActivity, chirality_from
 from .registry import FORMULAS, check_coefficients
 
 __all__ = [
+    "BiaxialMaterial",
     "DispersionModel",
     "DispersionRangeWarning",
     "IsotropicMaterial",
@@ -605,3 +608,73 @@ class UniaxialMaterial(_MaterialBase):
         """dn_e/dλ in µm⁻¹ at ``wavelength_um`` (µm)."""
         lam = self._wavelength(wavelength_um, strict)
         return _as_result(self.extraordinary.dn_dwl(lam), lam.ndim == 0)
+
+
+@dataclass(frozen=True)
+class BiaxialMaterial(_MaterialBase):
+    """A biaxial crystal: three principal indices, each with its own published dispersion.
+
+    The principal axes x, y, z are those of the dielectric tensor (the crystal frame in which
+    ε is diagonal); a piece places them in the global frame (``crystal_axes`` of
+    :class:`~prismdesign.optics.Medium`). The data files of the library label them so that
+    n_x < n_y < n_z (n_α, n_β, n_γ), and say in their notes how they lie against the
+    crystallographic axes.
+
+    Attributes
+    ----------
+    name : str
+        Canonical lower-case name.
+    index_x, index_y, index_z : DispersionModel
+        Dispersion of the index for light polarised along each principal axis.
+    validity_um, temperature_c, reference, aliases, transparency_um, notes, strict
+        As for :class:`IsotropicMaterial`.
+    """
+
+    name: str
+    index_x: DispersionModel
+    index_y: DispersionModel
+    index_z: DispersionModel
+    validity_um: tuple
+    temperature_c: float
+    reference: Optional[Reference]
+    aliases: tuple = ()
+    transparency_um: Optional[tuple] = None
+    notes: str = ""
+    dataset: str = ""
+    strict: bool = False
+    thermo_reference: str = ""
+    thermo_range_c: Optional[tuple] = None
+    _warned: set = field(default_factory=set, init=False, repr=False, compare=False, hash=False)
+    _poles_around: tuple = field(default=(None, None), init=False, repr=False, compare=False,
+                                 hash=False)
+
+    kind = "biaxial"
+    #: Not given: the sign of a biaxial crystal depends on the wavelength through its optic-axis
+    #: angle; the data files carry none.
+    optical_sign = None
+
+    def _models(self):
+        return {"x": self.index_x, "y": self.index_y, "z": self.index_z}
+
+    def indices(self, wavelength_um, temperature_c=None, *, strict=None):
+        """``(n_x, n_y, n_z)`` at ``wavelength_um`` (µm), with one range check.
+
+        Floats for scalar input, arrays of the broadcast shape otherwise. No thermo-optic data
+        are carried: a ``temperature_c`` other than the data temperature warns (raises with
+        ``strict``) and the data-temperature values are returned.
+        """
+        lam = self._wavelength(wavelength_um, strict)
+        return tuple(self._value(model, None, lam, temperature_c, strict)
+                     for model in (self.index_x, self.index_y, self.index_z))
+
+    def n_x(self, wavelength_um, temperature_c=None, *, strict=None):
+        """Principal index n_x at ``wavelength_um`` (µm)."""
+        return self._evaluate(self.index_x, None, wavelength_um, temperature_c, strict)
+
+    def n_y(self, wavelength_um, temperature_c=None, *, strict=None):
+        """Principal index n_y at ``wavelength_um`` (µm)."""
+        return self._evaluate(self.index_y, None, wavelength_um, temperature_c, strict)
+
+    def n_z(self, wavelength_um, temperature_c=None, *, strict=None):
+        """Principal index n_z at ``wavelength_um`` (µm)."""
+        return self._evaluate(self.index_z, None, wavelength_um, temperature_c, strict)

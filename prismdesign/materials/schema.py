@@ -10,7 +10,8 @@ import numpy as np
 
 from .registry import check_coefficients
 from .activity import OpticalActivity
-from .material import DispersionModel, IsotropicMaterial, Reference, UniaxialMaterial
+from .material import (BiaxialMaterial, DispersionModel, IsotropicMaterial, Reference,
+                       UniaxialMaterial)
 
 __all__ = ["SCHEMA_VERSION", "material_from_dict", "material_to_dict"]
 
@@ -19,7 +20,9 @@ SCHEMA_VERSION = 1
 _COMMON = {"schema", "name", "dataset", "aliases", "kind", "temperature_c", "validity_um",
            "transparency_um", "notes", "reference", "thermo_optic", "optical_activity"}
 _KIND_KEYS = {"uniaxial": {"optical_sign", "ordinary", "extraordinary"},
-              "isotropic": {"index"}}
+              "isotropic": {"index"},
+              "biaxial": {"x", "y", "z"}}
+_KINDS_ALLOWED = "'uniaxial', 'isotropic', 'biaxial'"
 _REQUIRED = {"schema", "name", "kind", "temperature_c", "validity_um", "reference"}
 _REFERENCE_KEYS = {"authors": True, "title": True, "year": True, "journal": False,
                    "volume": False, "pages": False, "doi": False}
@@ -184,8 +187,8 @@ def material_from_dict(data: dict, where: str):
     kind = data.get("kind")
     if kind not in _KIND_KEYS:
         if kind is None:
-            raise ValueError(f"{where}: missing key 'kind'; allowed: 'uniaxial', 'isotropic'")
-        _fail(where, "kind", kind, "'uniaxial', 'isotropic'")
+            raise ValueError(f"{where}: missing key 'kind'; allowed: {_KINDS_ALLOWED}")
+        _fail(where, "kind", kind, _KINDS_ALLOWED)
     _check_keys(where, data, _COMMON | _KIND_KEYS[kind], _REQUIRED | _KIND_KEYS[kind])
 
     name = _string(where, "name", data["name"])
@@ -208,6 +211,9 @@ def material_from_dict(data: dict, where: str):
         notes=_string(where, "notes", data.get("notes", "")),
         reference=_reference(where, data["reference"]),
     )
+    if "thermo_optic" in data and kind == "biaxial":
+        _fail(where, "thermo_optic", "[table]", "only in uniaxial and isotropic files (no "
+              "thermo-optic model for biaxial crystals yet)")
     if "thermo_optic" in data:
         dn_dt, common["thermo_reference"] = _thermo(where, kind, data["thermo_optic"])
         common.update(dn_dt)
@@ -216,6 +222,9 @@ def material_from_dict(data: dict, where: str):
     try:
         if kind == "isotropic":
             return IsotropicMaterial(index=_dispersion(where, "index", data["index"]), **common)
+        if kind == "biaxial":
+            return BiaxialMaterial(**{f"index_{axis}": _dispersion(where, axis, data[axis])
+                                      for axis in "xyz"}, **common)
         sign = data["optical_sign"]
         if sign not in ("positive", "negative"):
             _fail(where, "optical_sign", sign, "'positive', 'negative'")
@@ -257,6 +266,10 @@ def material_to_dict(material) -> dict:
                          ("authors", "title", "journal", "volume", "pages", "year")}
     if ref.doi:
         data["reference"]["doi"] = ref.doi
+    if material.kind == "biaxial":
+        for axis in "xyz":
+            data[axis] = _dispersion_table(getattr(material, f"index_{axis}"))
+        return data
     if material.kind == "uniaxial":
         data["ordinary"] = _dispersion_table(material.ordinary)
         data["extraordinary"] = _dispersion_table(material.extraordinary)

@@ -32,6 +32,7 @@ of :mod:`.interface`.
 """
 import numpy as np
 
+from .biaxial import biaxial_permittivity, power_orthogonal
 from .eigenmodes import mode_fields, normal_roots
 from .linear4 import solve4
 from .thin_layer import layer_transfer_matrix
@@ -227,9 +228,21 @@ def _inactive_modes(kappa, frame, n_o, n_e, axis, side):
 
 def _medium_waves(kappa, frame, indices, axis, side):
     """q, E, H, evanescent, ray (local) and bad for one side of the interface."""
+    m = kappa.shape[0]
+    if getattr(indices, "crystal_axes", None) is not None:
+        # A biaxial medium (:mod:`.biaxial`): its full ε in the local frame, no chirality;
+        # "o" first within each pair as for a positive crystal, i.e. fast (lower index) first.
+        eps = biaxial_permittivity(*indices, indices.crystal_axes)
+        local = np.stack(frame, axis=1)                      # rows û₁, û₂, N̂
+        eps = local @ eps @ np.swapaxes(local, 1, 2)
+        q, e, h, ev, bad = active_normal_modes(kappa, eps, np.zeros((m, 3, 3)),
+                                               np.ones(m, bool))
+        e, h = power_orthogonal(e, h, ev)
+        pick = slice(0, 2) if side == "forward" else slice(2, 4)
+        q, e, h, ev = q[:, pick], e[:, pick], h[:, pick], ev[:, pick]
+        return q, e, h, ev, np.cross(e, h.conj()).real, bad
     n_o, n_e = (np.asarray(v, dtype=float) for v in indices)
     xi1 = getattr(indices, "chirality", None)
-    m = kappa.shape[0]
     if xi1 is None:
         q, e, h, ev, s = _inactive_modes(kappa, frame, n_o, n_e, axis, side)
         return q, e, h, ev, s, np.zeros(m, bool)
@@ -273,6 +286,8 @@ def solve_gyrotropic_interface(wave_vector_in, field_in, normal, indices_1, axis
     xi_1 = getattr(indices_1, "chirality", None)
     xi_2 = getattr(indices_2, "chirality", None)
     extra = [np.shape(x) for x in (xi_1, xi_2) if x is not None]
+    extra += [np.shape(i.crystal_axes)[:-2] for i in (indices_1, indices_2)
+              if getattr(i, "crystal_axes", None) is not None]
     layer_arrays = () if layer is None else tuple(np.asarray(v, dtype=float) for v in layer)
     extra += [v.shape for v in layer_arrays]
     shape = np.broadcast_shapes(k_in.shape[:-1], e_in.shape[:-1], normal.shape[:-1],
@@ -288,6 +303,9 @@ def solve_gyrotropic_interface(wave_vector_in, field_in, normal, indices_1, axis
 
     def flat_indices(original, arrays, xi):
         pair = tuple(sca(v) for v in arrays)
+        if getattr(original, "crystal_axes", None) is not None:
+            axes = np.broadcast_to(original.crystal_axes, shape + (3, 3)).reshape(size, 3, 3)
+            return type(original)(*pair, axes)
         if xi is None:
             return pair
         flat = type(original)(*pair, sca(xi), original.transverse_ratio)

@@ -197,6 +197,8 @@ _RESULT_ARRAYS = ("coefficient", "power_fraction", "evanescent", "singular", "no
 def _rows(indices, rows):
     """``indices`` indexed by ``rows``; the pair of an optically active piece keeps its
     chirality (same type, see :mod:`.gyrotropic`)."""
+    if hasattr(indices, "take_rows"):
+        return indices.take_rows(rows)            # biaxial: three indices and the axes
     pair = (indices[0][rows], indices[1][rows])
     chirality = getattr(indices, "chirality", None)
     if chirality is None:

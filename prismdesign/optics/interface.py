@@ -340,8 +340,9 @@ def solve_interface(wave_vector_in, field_in, normal, indices_1, axis_1, indices
     InterfaceResult
         Arrays of the broadcast shape of the inputs (plus mode and vector axes).
     """
-    if hasattr(indices_1, "chirality") or hasattr(indices_2, "chirality"):
-        # An optically active piece (indices carry its chirality): separate exact solver.
+    if any(hasattr(i, "chirality") or hasattr(i, "crystal_axes") for i in (indices_1, indices_2)):
+        # An optically active piece (indices carry its chirality) or a biaxial one (indices
+        # carry its principal axes): the general-ε Berreman solver.
         from .gyrotropic import solve_gyrotropic_interface
         return solve_gyrotropic_interface(wave_vector_in, field_in, normal, indices_1, axis_1,
                                           indices_2, axis_2, layer)

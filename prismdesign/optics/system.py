@@ -3,10 +3,11 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
+from .biaxial import BIAXIAL_MODE_LETTERS, BiaxialIndices, check_crystal_axes
 from .thin_layer import ThinLayer
 from .vectors import as_unit_vectors, cross, dot
 
-__all__ = ["FixedIndices", "Medium", "CircularAperture", "RectangularAperture", "Surface",
+__all__ = ["FixedIndices", "FixedPrincipalIndices", "Medium", "CircularAperture", "RectangularAperture", "Surface",
            "SequentialSystem", "optic_axis_from_angles"]
 
 
@@ -44,6 +45,36 @@ class FixedIndices:
         return n_o, n_e
 
 
+@dataclass(frozen=True)
+class FixedPrincipalIndices:
+    """A biaxial medium with wavelength-independent principal indices (tests, quick studies).
+
+    Parameters
+    ----------
+    n_x, n_y, n_z : float
+        Principal indices (any order; two may be equal, giving the uniaxial limit).
+    name : str
+    """
+
+    n_x: float
+    n_y: float
+    n_z: float
+    name: str = "fixed principal indices"
+
+    kind = "biaxial"
+
+    def __post_init__(self):
+        for key in ("n_x", "n_y", "n_z"):
+            value = getattr(self, key)
+            if isinstance(value, bool) or not (np.isfinite(value) and value > 0):
+                raise ValueError(f"FixedPrincipalIndices {key} must be a positive finite index, "
+                                 f"got {value!r}")
+
+    def indices(self, wavelength_um, temperature_c=None):
+        shape = np.shape(wavelength_um)
+        return tuple(np.full(shape, float(v)) for v in (self.n_x, self.n_y, self.n_z))
+
+
 def optic_axis_from_angles(polar_deg, azimuth_deg):
     """Unit optic axis from its polar angle from z and azimuth from x (degrees).
 
@@ -64,7 +95,7 @@ def optic_axis_from_angles(polar_deg, azimuth_deg):
 
 @dataclass(frozen=True)
 class Medium:
-    """A region of a sequential system: a material and, for a crystal, its optic axis.
+    """A region of a sequential system: a material and, for a crystal, its orientation.
 
     Parameters
     ----------
@@ -77,14 +108,33 @@ class Medium:
     temperature_c : float or array_like, optional
         Temperature of this medium in °C; None means the data temperature. An array carries
         leading sample axes (e.g. Monte Carlo samples) that broadcast against the rays.
+    crystal_axes : array_like, shape (3, 3), optional
+        For a biaxial material (``kind == "biaxial"``, instead of an optic axis): a proper
+        rotation whose rows are the crystal's principal x, y, z axes in the global frame
+        (:func:`~prismdesign.optics.biaxial.crystal_axes_from_vectors`). Its ``indices`` are
+        then a :class:`~prismdesign.optics.biaxial.BiaxialIndices` ``(n_x, n_y, n_z)``.
     """
 
     material: object
     optic_axis: object = None
     temperature_c: float | None = None
+    crystal_axes: object = None
 
     def __post_init__(self):
         kind = getattr(self.material, "kind", None)
+        name = getattr(self.material, "name", "material")
+        if kind == "biaxial":
+            if self.crystal_axes is None or self.optic_axis is not None:
+                raise ValueError(f"medium of biaxial material {name!r} needs crystal_axes (a 3 × 3 "
+                                 f"rotation, rows: its x, y, z principal axes) and no optic_axis")
+            axes = check_crystal_axes(self.crystal_axes)
+            if axes.shape != (3, 3):
+                raise ValueError(f"crystal_axes of {name!r} must be one 3 × 3 rotation, got shape "
+                                 f"{axes.shape} (per-sample orientations are not supported yet)")
+            object.__setattr__(self, "crystal_axes", axes)
+        elif self.crystal_axes is not None:
+            raise ValueError(f"crystal_axes belong to biaxial materials; {name!r} is "
+                             f"{kind or 'not a crystal'} (give a uniaxial crystal an optic_axis)")
         if self.optic_axis is None:
             if kind == "uniaxial":
                 name = getattr(self.material, "name", "material")
@@ -105,7 +155,15 @@ class Medium:
     @property
     def is_crystal(self):
         """True for a birefringent medium (uniaxial material with an optic axis)."""
+        if self.crystal_axes is not None:
+            return True
         return self.optic_axis is not None and getattr(self.material, "kind", "uniaxial") != "isotropic"
+
+    @property
+    def mode_letters(self):
+        """Branch letters of this medium's two waves in mode order: "oe", or "fs" (fast, slow)
+        in a biaxial crystal (:mod:`.biaxial`)."""
+        return BIAXIAL_MODE_LETTERS if self.crystal_axes is not None else "oe"
 
     def indices(self, wavelength_um, temperature_c=None):
         """(n_o, n_e) at the given wavelengths (µm); equal for isotropic media.
@@ -114,6 +172,9 @@ class Medium:
         the tracer passes per-sample temperatures flattened like the rays.
         """
         t = self.temperature_c if temperature_c is None else temperature_c
+        if self.crystal_axes is not None:
+            # The principal indices carry the orientation through to the interface solver.
+            return BiaxialIndices(*self.material.indices(wavelength_um, t), self.crystal_axes)
         return self.material.indices(wavelength_um, t)
 
 

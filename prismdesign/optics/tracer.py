@@ -240,7 +240,9 @@ def _axis_array(medium, shape):
 
     Axes may carry leading sample axes (Monte Carlo) that broadcast against the rays.
     """
-    axis = medium.optic_axis if medium.is_crystal else np.array([0.0, 0.0, 1.0])
+    # A biaxial medium carries its orientation in its indices (crystal_axes), not here.
+    axis = (medium.optic_axis if medium.is_crystal and medium.optic_axis is not None
+            else np.array([0.0, 0.0, 1.0]))
     return np.broadcast_to(axis, tuple(shape) + (3,)).reshape(-1, 3)
 
 
@@ -467,7 +469,7 @@ def trace(system, position_mm, direction, wavelength_um, polarisation=(1.0, 0.0)
                 outgoing = [("t", (0, 1), after)] + ([("r", (2, 3), before)] if keep_reflections else [])
             for side, modes, medium in outgoing:
                 if medium.is_crystal:
-                    groups = [(label, (j,)) for label, j in zip("oe", modes)]
+                    groups = [(label, (j,)) for label, j in zip(medium.mode_letters, modes)]
                 else:
                     groups = [("s" if side == "r" else "", modes)]
                 for mode_label, group in groups:

@@ -25,12 +25,12 @@ def curve_label(name, source):
 def plot_indices(material, wavelength_um, path, temperature_c=None) -> Path:
     """Write a figure of n_o, n_e (top) and Δn = n_e − n_o (bottom) versus wavelength.
 
-    Isotropic materials get a single panel of n.  Wavelengths outside the material's validity
+    Isotropic materials get a single panel of n, biaxial crystals one of n_x, n_y, n_z.  Wavelengths outside the material's validity
     range are shaded and labelled as extrapolated.
 
     Parameters
     ----------
-    material : UniaxialMaterial or IsotropicMaterial
+    material : UniaxialMaterial, IsotropicMaterial or BiaxialMaterial
         The material to plot.
     wavelength_um : array_like, shape (N,)
         Wavelengths in µm, increasing.
@@ -57,6 +57,11 @@ def plot_indices(material, wavelength_um, path, temperature_c=None) -> Path:
         axes[0].set_ylabel("refractive index")
         axes[1].plot(lam, n_e - n_o, color="black")
         axes[1].set_ylabel(r"birefringence $\Delta n = n_e - n_o$")
+    elif material.kind == "biaxial":
+        for n, axis, colour in zip(material.indices(lam, temperature_c), "xyz",
+                                   ("tab:blue", "tab:green", "tab:red")):
+            axes[0].plot(lam, n, label=f"$n_{axis}$ (principal axis {axis})", color=colour)
+        axes[0].set_ylabel("refractive index")
     else:
         axes[0].plot(lam, material.n(lam, temperature_c), label="$n$", color="tab:blue")
         axes[0].set_ylabel("refractive index")

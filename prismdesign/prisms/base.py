@@ -93,14 +93,23 @@ class Piece:
     temperature_c : float or ndarray, optional
         Temperature of this piece (°C), overriding the prism's :attr:`Prism.temperature_c`;
         None follows the prism. An array carries leading sample axes like the prism's.
+    crystal_axes : array_like, shape (3, 3), optional
+        Required for a biaxial material instead of an optic axis: a proper rotation whose rows
+        are the crystal's principal x, y, z axes in the global frame
+        (:func:`~prismdesign.optics.crystal_axes_from_vectors`).
     """
 
     material: object
     optic_axis: object = None
     label: str = ""
     temperature_c: object = None
+    crystal_axes: object = None
 
     def __post_init__(self):
+        if getattr(self.material, "kind", None) == "biaxial" or self.crystal_axes is not None:
+            # Medium checks the pairing (biaxial ⇔ crystal_axes, no optic axis) and the rotation.
+            medium = Medium(self.material, self.optic_axis, crystal_axes=self.crystal_axes)
+            object.__setattr__(self, "crystal_axes", medium.crystal_axes)
         if self.optic_axis is not None:
             object.__setattr__(self, "optic_axis", as_unit_vectors(self.optic_axis, "optic_axis"))
         elif getattr(self.material, "kind", None) == "uniaxial":
@@ -113,6 +122,8 @@ class Piece:
 
     @property
     def is_crystal(self):
+        if self.crystal_axes is not None:
+            return True
         return self.optic_axis is not None and getattr(self.material, "kind", "") == "uniaxial"
 
 
@@ -297,7 +308,8 @@ class Prism:
         a = np.deg2rad(angle_deg)
         rot = np.array([[np.cos(a), -np.sin(a), 0.0], [np.sin(a), np.cos(a), 0.0], [0.0, 0.0, 1.0]])
         # Row vectors times rotᵀ: also turns axes that carry leading (Monte Carlo) sample axes.
-        pieces = [replace(p, optic_axis=None if p.optic_axis is None else p.optic_axis @ rot.T)
+        pieces = [replace(p, optic_axis=None if p.optic_axis is None else p.optic_axis @ rot.T,
+                          crystal_axes=None if p.crystal_axes is None else p.crystal_axes @ rot.T)
                   for p in self.pieces]
         boundaries = [replace(b, point_mm=b.point_mm @ rot.T, normal=b.normal @ rot.T)
                       for b in self.boundaries]
@@ -380,7 +392,8 @@ class Prism:
     def media(self):
         """Media in order: surroundings, each piece, surroundings."""
         outside = Medium(self.surround)
-        return [outside] + [Medium(p.material, p.optic_axis if p.is_crystal else None, t)
+        return [outside] + [Medium(p.material, p.optic_axis if p.is_crystal else None, t,
+                                   crystal_axes=p.crystal_axes)
                             for p, t in zip(self.pieces, self.piece_temperatures_c())] \
             + [outside]
 

@@ -32,6 +32,9 @@ class StackPiece:
     thickness_mm : float
         Thinnest z-thickness of the piece across the aperture (mm).
     label : str
+    crystal_axes : array_like, shape (3, 3), optional
+        For a biaxial crystal instead of an optic axis: rows are its principal x, y, z axes
+        in the global frame (:func:`~prismdesign.optics.crystal_axes_from_vectors`).
     """
 
     material: object
@@ -39,6 +42,7 @@ class StackPiece:
     exit_face_deg: float = 0.0
     thickness_mm: float = 1.0
     label: str = ""
+    crystal_axes: object = None
 
 
 def _as_list(items, name, kind):
@@ -52,9 +56,10 @@ def _as_list(items, name, kind):
 def _as_spec(item, index, cls_keys, kind):
     """A dict of piece settings from a StackPiece, a dict or a tuple."""
     if isinstance(item, StackPiece):
-        return dict(material=item.material, optic_axis=item.optic_axis,
+        spec = dict(material=item.material, optic_axis=item.optic_axis,
                     exit_face_deg=item.exit_face_deg, thickness_mm=item.thickness_mm,
                     label=item.label)
+        return spec | ({} if item.crystal_axes is None else {"crystal_axes": item.crystal_axes})
     if isinstance(item, dict):
         unknown = sorted(set(item) - set(cls_keys))
         if unknown:
@@ -91,15 +96,23 @@ def _piece(spec, index):
     if getattr(crystal, "kind", "") == "uniaxial" and axis is None:
         raise ValueError(f"piece {index} of uniaxial {crystal.name} needs an optic_axis "
                          f"('x', 'y', 'z', (polar_deg, azimuth_deg) or a 3-vector), got None")
+    if getattr(crystal, "kind", "") == "biaxial":
+        if axis is not None or spec.get("crystal_axes") is None:
+            raise ValueError(f"piece {index} of biaxial {crystal.name} needs crystal_axes (a 3 × 3 "
+                             f"rotation, rows: its x, y, z principal axes) and no optic_axis")
+        return Piece(crystal, None, label=spec.get("label") or f"piece {index + 1}",
+                     crystal_axes=spec["crystal_axes"])
     return Piece(crystal, axis if getattr(crystal, "kind", "") == "uniaxial" else None,
-                 label=spec.get("label") or f"piece {index + 1}")
+                 label=spec.get("label") or f"piece {index + 1}",
+                 crystal_axes=spec.get("crystal_axes"))
 
 
 def _record(spec, piece):
     """Parameters of one piece for reports."""
     axis = piece.optic_axis
     return {key: (value if key != "material" else getattr(piece.material, "name", str(value)))
-            for key, value in spec.items()} | {"optic_axis": None if axis is None else axis.tolist()}
+            for key, value in spec.items()} | {"optic_axis": None if axis is None else axis.tolist()} \
+        | ({} if piece.crystal_axes is None else {"crystal_axes": piece.crystal_axes.tolist()})
 
 
 def free_stack(pieces, *, interfaces=None, width_mm=10.0, height_mm=10.0,
@@ -128,7 +141,7 @@ def free_stack(pieces, *, interfaces=None, width_mm=10.0, height_mm=10.0,
     -------
     Prism
     """
-    keys = ("material", "optic_axis", "exit_face_deg", "thickness_mm", "label")
+    keys = ("material", "optic_axis", "exit_face_deg", "thickness_mm", "label", "crystal_axes")
     specs = [_as_spec(item, i, keys, "piece") for i, item in enumerate(_as_list(pieces, "pieces",
                                                                                 "piece"))]
     built = [_piece(spec, i) for i, spec in enumerate(specs)]
