@@ -32,6 +32,7 @@ from ._common import (LOST_FLAGS, check_numbers, check_offsets, check_polarisati
                       prism_sample_shape, shown, summarise_loss)
 from .total_reflection import (Requirement, beam_blocked, beam_passes, check_requirements,
                                extinction_at_least, power_at_least, power_at_most)
+from .beam_groups import trace_output_beams
 
 __all__ = ["Requirement", "beam_passes", "beam_blocked", "power_at_least", "power_at_most",
            "extinction_at_least", "default_requirements", "requirement_margins",
@@ -76,7 +77,7 @@ def default_requirements(prism, wavelength_um=None):
         other = "e" if mode == "o" else "o"
         return (beam_passes(mode * crystals), beam_blocked(other * crystals))
     lam = prism.design_wavelength_um if wavelength_um is None else float(wavelength_um.flat[0])
-    result = prism.trace(lam, 0.0, 0.0, power_threshold=0.0)
+    result = trace_output_beams(prism, lam, 0.0, 0.0, power_threshold=0.0)
     # The spec is about total reflection (the clear aperture is not part of it, see
     # field_of_view): a beam counts unless it is totally reflected, misses a surface or
     # carries under 1 % of the input.
