@@ -204,3 +204,32 @@ def test_no_stopgap_warning_but_interference_of_grouped_beams_warns():
         split(prism, LAM)
     with pytest.warns(ActivePieceWarning, match="first branch"):
         optical_path_difference(prism, LAM)
+
+
+def test_split_reports_the_spread_of_each_output_beam():
+    # The undeviated beam's halves are Δ ≈ 2ξ tanθ apart (small-angle refraction at the
+    # tilted interface, test_optics_activity); single branches have no spread.
+    result = split(_rochon(RIGHT), LAM, 0.0, 0.0, offset_mm=[(0.0, 0.0), (2.0, 0.0)])
+    expected = np.rad2deg(2 * RIGHT.indices(LAM).chirality * np.tan(np.deg2rad(20.0)))
+    np.testing.assert_allclose(result.spread_deg["eo+oo"], expected, rtol=0.02)
+    inactive = split(_rochon(QUARTZ), LAM)
+    assert all(float(v) == 0.0 for v in inactive.spread_deg.values())
+
+
+def test_field_of_view_of_an_output_beam_is_that_of_its_weakest_branch():
+    # A beam passes where every branch it adds passes (total-reflection margin, index²): the
+    # grouped margin is the minimum of the members' margins on the raw trace.
+    from prismdesign.analysis import beam_passes, default_requirements, requirement_margins
+    from prismdesign.analysis.total_reflection import total_reflection_margin
+    prism = _rochon(RIGHT)
+    assert {r.beam for r in default_requirements(prism)} == {"eo+oo", "ee+oe"}
+    angles = np.linspace(-20.0, 20.0, 9)
+    grouped = requirement_margins(prism, LAM, angles, 0.0, [beam_passes("ee+oe")])[0]
+    raw = prism.trace(LAM, angles, 0.0, polarisation=(1.0, 0.0), power_threshold=0.0)
+    system = prism.system()
+    expected = np.minimum(total_reflection_margin(raw, system, "ee"),
+                          total_reflection_margin(raw, system, "oe"))
+    np.testing.assert_allclose(grouped, expected, rtol=1e-12)
+    # Members can still be named on their own.
+    single = requirement_margins(prism, LAM, angles, 0.0, [beam_passes("oe")])[0]
+    np.testing.assert_allclose(single, total_reflection_margin(raw, system, "oe"), rtol=1e-12)

@@ -61,7 +61,7 @@ from ..optics.vectors import dot
 
 __all__ = ["GROUP_TOLERANCE_RAD", "GROUP_OFFSET_MM", "active_letters", "group_labels",
            "combine_groups", "output_beam_trace", "trace_output_beams", "group_spread_rad",
-           "has_active_piece", "members"]
+           "has_active_piece", "members", "with_members"]
 
 #: Largest angle (rad) between the exit directions of two branches of one output beam.
 GROUP_TOLERANCE_RAD = 1e-3
@@ -253,6 +253,17 @@ def output_beam_trace(result, prism):
     if all(len(g) == 1 for g in groups + reflected_groups):
         return result
     return combine_groups(result, groups, reflected_groups)
+
+
+def with_members(result, prism):
+    """`result` with its output beams and, besides them, the raw branches they add (so that
+    a figure defined per branch, such as a total-reflection margin, can be taken over the
+    members of a beam: :func:`members`)."""
+    grouped = output_beam_trace(result, prism)
+    if grouped is result:
+        return result
+    return TraceResult({**result.beams, **grouped.beams}, grouped.reflected,
+                       result.incoherent_pair, getattr(result, "layer_treatments", None))
 
 
 def trace_output_beams(prism, *args, **options):

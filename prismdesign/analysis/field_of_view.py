@@ -32,7 +32,7 @@ from ._common import (LOST_FLAGS, check_numbers, check_offsets, check_polarisati
                       prism_sample_shape, shown, summarise_loss)
 from .total_reflection import (Requirement, beam_blocked, beam_passes, check_requirements,
                                extinction_at_least, power_at_least, power_at_most)
-from .beam_groups import trace_output_beams
+from .beam_groups import trace_output_beams, with_members
 
 __all__ = ["Requirement", "beam_passes", "beam_blocked", "power_at_least", "power_at_most",
            "extinction_at_least", "default_requirements", "requirement_margins",
@@ -148,6 +148,9 @@ def requirement_margins(prism, wavelength_um, in_plane_deg, out_of_plane_deg, re
                                   else (np.shape(polarisation)[:-1],)))
 
     def per_ray(result, traced_prism):
+        # Output beams and their member branches (a margin is per branch: see
+        # total_reflection_margin).
+        result = with_members(result, traced_prism)
         system = traced_prism.system()
         ray_shape = np.shape(result.power(next(iter(result.beams))))
         return {i: np.broadcast_to(r.margin(result, system), ray_shape)
@@ -157,7 +160,7 @@ def requirement_margins(prism, wavelength_um, in_plane_deg, out_of_plane_deg, re
     # beam), so their geometry is available for the margins.
     margins = map_rays(prism, lam, in_plane, out_of_plane, offset, per_ray,
                        what="requirement_margins", polarisation=polarisation,
-                       power_threshold=0.0)
+                       power_threshold=0.0, output_beams=False)
     return np.stack([np.broadcast_to(margins[i], shape) for i in range(len(requirements))])
 
 
