@@ -233,3 +233,35 @@ def test_field_of_view_of_an_output_beam_is_that_of_its_weakest_branch():
     # Members can still be named on their own.
     single = requirement_margins(prism, LAM, angles, 0.0, [beam_passes("oe")])[0]
     np.testing.assert_allclose(single, total_reflection_margin(raw, system, "oe"), rtol=1e-12)
+
+
+def test_chunked_trace_groups_alike(monkeypatch):
+    # Chunks are grouped one by one (analysis.memory): labels and figures must not depend on
+    # where the chunks fall (compare tests/test_analysis_memory.py for inactive prisms).
+    from prismdesign.analysis import memory
+    prism = _rochon(RIGHT)
+    lam = np.linspace(0.5, 0.7, 20)
+    angles = np.linspace(-5.0, 5.0, 5)[:, None]
+    whole = split(prism, lam, angles)
+    monkeypatch.setattr(memory, "MEMORY_LIMIT_BYTES", 4 * 2 * memory.trace_bytes_per_ray(prism) * 7)
+    chunked = split(prism, lam, angles)
+    assert chunked.main_labels == whole.main_labels
+    np.testing.assert_array_equal(chunked.split_deg, whole.split_deg)
+    np.testing.assert_array_equal(chunked.spread_deg["eo+oo"], whole.spread_deg["eo+oo"])
+
+
+def test_rochon_extinction_input_is_turned_by_the_first_wedge():
+    # The undeviated beam is the o wave of the second wedge; the active first wedge turns the
+    # input by -ρ·t₁ on the way (rotation law, Born & Wolf §15.5, from memory), so the input
+    # the undeviated beam passes best is the inactive prism's (x) turned by +ρ·t₁.
+    prism = _rochon(RIGHT)
+    result = extinction(prism, LAM)
+    jin = result.input_jones["eo+oo"]
+    # Azimuth of the polarisation ellipse, ½ atan2(S2, S1) (Born & Wolf §1.4.2).
+    azimuth = 0.5 * np.rad2deg(np.arctan2(2 * np.real(jin[0] * np.conj(jin[1])),
+                                          np.abs(jin[0]) ** 2 - np.abs(jin[1]) ** 2))
+    raw = prism.trace(LAM, 0.0, 0.0, polarisation=(1.0, 0.0))
+    t1 = np.linalg.norm(raw.beams["oo"].positions_mm[2] - raw.beams["oo"].positions_mm[1])
+    expected = RIGHT.rotatory_power_deg_per_mm(LAM) * t1
+    assert (azimuth - expected + 90.0) % 180.0 - 90.0 == pytest.approx(0.0, abs=0.05)
+    assert result.analyser_extinction_ratio["eo+oo"] > 1e6
