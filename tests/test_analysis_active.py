@@ -265,3 +265,26 @@ def test_rochon_extinction_input_is_turned_by_the_first_wedge():
     expected = RIGHT.rotatory_power_deg_per_mm(LAM) * t1
     assert (azimuth - expected + 90.0) % 180.0 - 90.0 == pytest.approx(0.0, abs=0.05)
     assert result.analyser_extinction_ratio["eo+oo"] > 1e6
+
+
+@pytest.mark.parametrize("wedge_deg", [20.0, 0.05])
+def test_active_wollaston_keeps_its_two_beams_even_when_nearly_parallel(wedge_deg):
+    # Far from the axis the two waves of an active piece are the linear o and e waves (their
+    # index split ≫ 2ξ): distinct beams, as in the inactive prism, even when a DIC-sized wedge
+    # makes them leave within the direction tolerance. Split: 2|n_e − n_o| tanθ (small-angle
+    # Wollaston formula, Born & Wolf §15.4, from memory) — here compared with the inactive twin.
+    active = split(wollaston(RIGHT, wedge_deg, design_wavelength_um=LAM), LAM)
+    inactive = split(wollaston(QUARTZ, wedge_deg, design_wavelength_um=LAM), LAM)
+    assert active.main_labels == inactive.main_labels == ("eo", "oe")
+    assert active.split_deg == pytest.approx(inactive.split_deg, rel=1e-6)
+    if wedge_deg < 1:
+        # The case that needs the index-regime rule: within the direction tolerance.
+        assert np.deg2rad(active.split_deg) < GROUP_TOLERANCE_RAD
+
+
+def test_active_plate_with_axis_in_its_faces_keeps_o_and_e():
+    # A quartz wave plate (axis along x): the waves are the linear o and e waves, kept apart
+    # as for the inactive plate; cut across the axis, the two circular waves are one beam.
+    lateral = free_stack([StackPiece(RIGHT, "x", 0.0, 1.0)], design_wavelength_um=LAM)
+    assert sorted(jones_matrices(lateral, LAM).labels) == ["e", "o"]
+    assert jones_matrices(_plate("right"), LAM).labels == ("e+o",)

@@ -18,7 +18,13 @@ same output beam when
 2. at every ray where both exist (no :data:`~prismdesign.analysis.LOST_FLAGS` bit), their exit
    ray directions differ by at most :data:`GROUP_TOLERANCE_RAD`, and
 3. there their exit points, measured across the mean exit direction, are at most
-   :data:`GROUP_OFFSET_MM` apart (a displacer of active quartz still gives two beams).
+   :data:`GROUP_OFFSET_MM` apart (a displacer of active quartz still gives two beams);
+4. on some ray, in every active piece where their letters differ, the two waves are the
+   activity-dominated (near-circular) pair: phase indices within :data:`CIRCULAR_FACTOR`
+   × 2|ξ| of each other. Far from the axis the two waves of an active piece are the linear o
+   and e waves, which the labelling convention keeps as separate beams (a quartz Wollaston or
+   Nomarski prism of tiny split, a quartz wave plate cut with the axis in its faces, keep the
+   beams of their inactive twins).
 
 Groups are the connected sets of that relation; geometry, not power, decides, so the grouping is
 the same for every input polarisation.
@@ -48,23 +54,33 @@ separates differ by 1e-2 rad or more; 1e-3 rad sits between with two decades to 
 side. The offset limit likewise sits between the sub-micrometre offset of the two halves and the
 tenths of a millimetre of a beam displacer.
 
-Limits: an output beam's "phase" is its first member's, so optical path differences and fringes
-between members of one group (or between groups whose members beat) are not described; the
-interference analyses therefore keep working on single branches and warn when a piece is
-active. Inputs traced in chunks (:mod:`prismdesign.analysis.memory`) are grouped per chunk.
+Limits: an output beam's phase is taken as its first member's, so optical path differences
+and fringes between members of one group (or between groups whose members beat) are not
+described: the interference analyses pick grouped main beams but warn
+(:class:`~prismdesign.materials.activity.ActivePieceWarning`) when they use one, and accept
+a member branch's label instead. Reflected branches are grouped only when reflected into an
+isotropic medium. Inputs traced in chunks (:mod:`prismdesign.analysis.memory`) are grouped
+per chunk.
 """
+import warnings
+
 import numpy as np
 
 from ..optics import Beam, TraceFlag
 from ..optics.tracer import TraceResult
 from ..optics.vectors import dot
 
-__all__ = ["GROUP_TOLERANCE_RAD", "GROUP_OFFSET_MM", "active_letters", "group_labels",
+__all__ = ["GROUP_TOLERANCE_RAD", "GROUP_OFFSET_MM", "CIRCULAR_FACTOR", "active_letters", "group_labels",
            "combine_groups", "output_beam_trace", "trace_output_beams", "group_spread_rad",
            "has_active_piece", "members", "with_members"]
 
 #: Largest angle (rad) between the exit directions of two branches of one output beam.
 GROUP_TOLERANCE_RAD = 1e-3
+
+#: Two waves of an active piece count as the two halves of one beam where their phase indices
+#: differ by at most this multiple of 2|ξ|, the split of the circular waves along the axis
+#: (at the crossover angle the linear birefringence equals 2|ξ| and the split is √2 × 2|ξ|).
+CIRCULAR_FACTOR = 2.0
 
 #: Largest distance (mm) between the exit points of two branches of one output beam, across
 #: their mean direction.
@@ -77,6 +93,38 @@ _LOST = (TraceFlag.TOTAL_INTERNAL_REFLECTION | TraceFlag.MISSED_SURFACE
 def has_active_piece(prism):
     """True when a piece of `prism` is optically active (its material has a hand)."""
     return any(getattr(p.material, "handedness", None) is not None for p in prism.pieces)
+
+
+def _crystal_pieces(prism):
+    """Index in `prism.pieces` of each crystal piece (one label letter each), in order."""
+    return tuple(i for i, p in enumerate(prism.pieces) if p.is_crystal)
+
+
+def _circular_somewhere(a, b, prism, pair):
+    """Whether, on some ray, every active piece where the labels of `a` and `b` differ carries
+    their two waves in the activity-dominated regime: phase indices within
+    :data:`CIRCULAR_FACTOR` × 2|ξ| of each other (2|ξ| is the split of the two circular waves
+    along the axis; far from it the waves are the linear o and e waves, distinct beams)."""
+    pieces = _crystal_pieces(prism)
+    n_a, n_b = a.indices, b.indices
+    if pair:
+        n_a, n_b = n_a[:, 0], n_b[:, 0]
+    if len(n_a) != len(prism.pieces) + 2:     # not one segment per piece (a mirror): no groups
+        return False
+    lam = a.wavelength_um[0] if pair else a.wavelength_um
+    temperatures = prism.piece_temperatures_c()
+    ok = True
+    for k, (ca, cb) in enumerate(zip(a.label, b.label)):
+        if ca == cb:
+            continue
+        j = pieces[k]
+        with warnings.catch_warnings():
+            # The trace has already warned about the range of the rotatory-power data.
+            warnings.simplefilter("ignore")
+            xi = np.abs(prism.pieces[j].material.indices(lam, temperatures[j]).chirality)
+        segment = j + 1                        # segment 0 is the surround before the prism
+        ok = ok & (np.abs(n_a[segment] - n_b[segment]) <= CIRCULAR_FACTOR * 2 * xi)
+    return bool(np.any(ok))
 
 
 def active_letters(prism):
@@ -166,7 +214,8 @@ def group_labels(result, prism, beams=None):
         for b in labels[i + 1:]:
             if key(a) is None or key(a) != key(b):
                 continue
-            if _linked(beams[a], beams[b], pair):
+            if (_linked(beams[a], beams[b], pair)
+                    and _circular_somewhere(beams[a], beams[b], prism, pair)):
                 parent[root(b)] = root(a)
     groups = {}
     for label in labels:
