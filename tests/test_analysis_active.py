@@ -288,3 +288,14 @@ def test_active_plate_with_axis_in_its_faces_keeps_o_and_e():
     lateral = free_stack([StackPiece(RIGHT, "x", 0.0, 1.0)], design_wavelength_um=LAM)
     assert sorted(jones_matrices(lateral, LAM).labels) == ["e", "o"]
     assert jones_matrices(_plate("right"), LAM).labels == ("e+o",)
+
+
+def test_extinction_with_circular_input_and_a_pruning_threshold_keeps_the_beams():
+    # Right-circular input feeds one circular wave of the first wedge only; the other half of
+    # each beam must not be pruned away (its label would change with the input).
+    result = extinction(_rochon(RIGHT), LAM, polarisation=(1.0, -1.0j), power_threshold=1e-6)
+    assert set(result.main_labels) == {"eo+oo", "ee+oe"}
+    assert set(result.labels) >= {"eo+oo", "ee+oe"}
+    # Circular input splits evenly between the two linear exit polarisations (Malus, averaged).
+    total = sum(float(result.power[k]) for k in result.main_labels)
+    assert float(result.power["eo+oo"]) / total == pytest.approx(0.5, abs=2e-3)

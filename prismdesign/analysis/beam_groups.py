@@ -317,7 +317,14 @@ def with_members(result, prism):
 
 def trace_output_beams(prism, *args, **options):
     """:meth:`Prism.trace <prismdesign.prisms.Prism.trace>`, its branches grouped into output
-    beams (:func:`output_beam_trace`)."""
+    beams (:func:`output_beam_trace`).
+
+    With an active piece every branch is kept (``power_threshold=0``): pruning one half of an
+    output beam (circularly polarised input feeds one circular wave only) would change the
+    beam's label with the input.
+    """
+    if has_active_piece(prism):
+        options["power_threshold"] = 0.0
     return output_beam_trace(prism.trace(*args, **options), prism)
 
 
