@@ -4,7 +4,7 @@ split and deviations versus temperature.
 Every function takes a prism and broadcasts over wavelength, incidence angle and entry point."""
 from ._common import (BELOW_POWER_FLOOR, LOST_FLAGS, LOST_POWER_FLOOR, MissingBeamWarning,
                       describe_lost, lost_codes)
-from . import memory
+from . import beam_groups, memory
 from .deviation import SplitResult, split, split_angle_deg, wollaston_small_angle_split_deg
 from .extinction import ExtinctionResult, extinction, perturb_axes
 from .field_of_view import (DIRECTIONS, FieldOfView, Requirement, beam_blocked, beam_passes,
@@ -19,7 +19,7 @@ from .transmission import TransmissionResult, transmission
 
 __all__ = [
     "LOST_FLAGS", "LOST_POWER_FLOOR", "BELOW_POWER_FLOOR", "MissingBeamWarning", "lost_codes",
-    "describe_lost", "memory",
+    "describe_lost", "memory", "beam_groups",
     "DIRECTIONS", "FieldOfView", "Requirement", "beam_blocked", "beam_passes",
     "default_requirements", "extinction_at_least", "field_of_view", "find_edges",
     "power_at_least", "power_at_most", "requirement_margins",

@@ -6,7 +6,7 @@ out-of-plane deviation asin(d_y), both measured from z (not from the input direc
 angle is the exact angle between two exit ray directions, atan2(|a × b|, a · b), which stays
 accurate for tiny and for large angles alike.
 """
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -15,6 +15,7 @@ from ..prisms.base import check_prism
 from ._common import (as_output, check_main_labels, check_numbers, check_ray_inputs,
                       check_shapes, lost_codes, missing_pair_reason, rank_beams, shown,
                       strip_pair, warn_missing)
+from .beam_groups import group_spread_rad, has_active_piece, output_beam_trace
 from .memory import map_rays
 
 __all__ = ["SplitResult", "split", "split_angle_deg", "wollaston_small_angle_split_deg"]
@@ -68,6 +69,11 @@ class SplitResult:
     reason : str
         "" when two main beams exist; else one line naming the missing beam and why (also
         issued as a :class:`~prismdesign.analysis.MissingBeamWarning`).
+    spread_deg : dict[str, ndarray]
+        Largest angle between the exit directions of the branches a beam adds (degrees): 0 for
+        a single branch; for an output beam of an optically active piece (label "a+b", see
+        :mod:`~prismdesign.analysis.beam_groups`) the arcsecond doubling of its halves, whose
+        power-weighted mean direction is the beam's. NaN where the beam is lost.
     """
 
     labels: tuple
@@ -82,6 +88,7 @@ class SplitResult:
     bisector_in_plane_deg: object
     asymmetry_deg: object
     reason: str = ""
+    spread_deg: dict = field(default_factory=dict)
 
 
 def split_angle_deg(direction_a, direction_b):
@@ -148,10 +155,14 @@ def wollaston_small_angle_split_deg(n_o, n_e, wedge_angle_deg):
 
 
 def _split_per_ray(result, traced_prism):
-    """Per-ray figures of every beam of a trace (pair axis removed), keyed (label, field)."""
+    """Per-ray figures of every output beam of a trace (pair axis removed), keyed
+    (label, field); `result` holds the raw branches, grouped here to measure the spread."""
     out = {}
-    for label, beam in result.beams.items():
-        beam = strip_pair(beam, result.incoherent_pair)
+    grouped = output_beam_trace(result, traced_prism)
+    for label, beam in grouped.beams.items():
+        out[label, "spread_deg"] = (np.rad2deg(group_spread_rad(result, label)) if "+" in label
+                                    else np.zeros(np.shape(beam.power)[result.incoherent_pair:]))
+        beam = strip_pair(beam, grouped.incoherent_pair)
         in_dev, out_dev = beam.deviation_deg()
         out[label, "in_plane_deg"] = in_dev
         out[label, "out_of_plane_deg"] = out_dev
@@ -174,18 +185,23 @@ def beam_table(prism, wavelength, in_plane, out_of_plane, offset, what, **trace_
     Returns
     -------
     dict[str, dict[str, ndarray]]
-        By label, then by field ("in_plane_deg", "out_of_plane_deg", "direction", "power",
-        "flags", "lost"); figures of a lost beam are NaN where it is lost.
+        By output-beam label (:mod:`~prismdesign.analysis.beam_groups`), then by field
+        ("in_plane_deg", "out_of_plane_deg", "direction", "power", "flags", "lost",
+        "spread_deg"); figures of a lost beam are NaN where it is lost.
     """
+    if has_active_piece(prism):
+        # Keep both halves of every output beam on every ray (see analysis.beam_groups).
+        trace_options.setdefault("power_threshold", 0.0)
     flat = map_rays(prism, wavelength, in_plane, out_of_plane, offset, _split_per_ray,
-                    what=what, fill=lambda key: _DROPPED.get(key[1], np.nan), **trace_options)
+                    what=what, fill=lambda key: _DROPPED.get(key[1], np.nan),
+                    output_beams=False, **trace_options)
     table = {}
     for (label, name), value in flat.items():
         table.setdefault(label, {})[name] = value
     for values in table.values():
         values["lost"] = lost_codes(values["flags"], values["power"])
         gone = values["lost"] != 0
-        for name in ("in_plane_deg", "out_of_plane_deg"):
+        for name in ("in_plane_deg", "out_of_plane_deg", "spread_deg"):
             values[name] = np.where(gone, np.nan, values[name])
         values["direction"] = np.where(gone[..., None], np.nan, values["direction"])
     return table
@@ -283,7 +299,8 @@ def split(prism, wavelength_um, in_plane_deg=0.0, out_of_plane_deg=0.0, *, offse
         lost={label: as_output(v) for label, v in lost.items()},
         main_labels=main, split_deg=as_output(split_deg),
         bisector_in_plane_deg=as_output(np.broadcast_to(bisector, shape).copy()),
-        asymmetry_deg=as_output(np.broadcast_to(asymmetry, shape).copy()), reason=reason)
+        asymmetry_deg=as_output(np.broadcast_to(asymmetry, shape).copy()), reason=reason,
+        spread_deg={label: as_output(v["spread_deg"]) for label, v in table.items()})
 
 
 def _mean_or_inf(values):

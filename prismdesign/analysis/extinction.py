@@ -39,6 +39,7 @@ from ..prisms.base import check_prism
 from ._common import (BELOW_POWER_FLOOR, as_output, check_main_labels, check_non_negative,
                       check_numbers, check_polarisation, check_ray_inputs, check_shapes,
                       lost_codes, prism_sample_shape, rank_beams, shown, strip_pair)
+from .beam_groups import trace_output_beams
 from .memory import check_fits, trace_bytes_per_ray
 from .deviation import angle_between_deg
 from .jones import jones_matrices
@@ -257,16 +258,17 @@ def extinction(prism, wavelength_um, in_plane_deg=0.0, out_of_plane_deg=0.0, *,
     power_threshold = check_non_negative("power_threshold", power_threshold,
                                          "a finite power fraction >= 0")
     args = (wavelength, in_plane, out_of_plane)
-    reference = (prism if nominal is None else nominal).trace(
-        *args, offset_mm=offset_mm, polarisation="unpolarised", power_threshold=power_threshold)
+    reference = trace_output_beams(
+        prism if nominal is None else nominal, *args, offset_mm=offset_mm,
+        polarisation="unpolarised", power_threshold=power_threshold)
     ref_beams = {label: strip_pair(b, True) for label, b in reference.beams.items()}
     ref_lost = {label: lost_codes(b.flags, b.power) for label, b in ref_beams.items()}
     if main_labels is None:
         main = rank_beams({label: b.power for label, b in ref_beams.items()}, lost=ref_lost)
     else:
         main = check_main_labels(main_labels, ref_beams)
-    result = prism.trace(*args, offset_mm=offset_mm, polarisation=polarisation,
-                         power_threshold=power_threshold)
+    result = trace_output_beams(prism, *args, offset_mm=offset_mm, polarisation=polarisation,
+                                power_threshold=power_threshold)
     pair = result.incoherent_pair
     beams = result.beams
     geometry = {label: strip_pair(b, pair) for label, b in beams.items()}
@@ -280,8 +282,9 @@ def extinction(prism, wavelength_um, in_plane_deg=0.0, out_of_plane_deg=0.0, *,
     elif pair:
         unpolarised = result
     else:
-        unpolarised = prism.trace(*args, offset_mm=offset_mm, polarisation="unpolarised",
-                                  power_threshold=power_threshold)
+        unpolarised = trace_output_beams(prism, *args, offset_mm=offset_mm,
+                                         polarisation="unpolarised",
+                                         power_threshold=power_threshold)
     assessed_lost = {label: lost_codes(strip_pair(b, True).flags, strip_pair(b, True).power)
                      for label, b in unpolarised.beams.items()}
     jones_args = dict(offset_mm=offset_mm)

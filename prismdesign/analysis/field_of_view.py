@@ -32,6 +32,7 @@ from ._common import (LOST_FLAGS, check_numbers, check_offsets, check_polarisati
                       prism_sample_shape, shown, summarise_loss)
 from .total_reflection import (Requirement, beam_blocked, beam_passes, check_requirements,
                                extinction_at_least, power_at_least, power_at_most)
+from .beam_groups import trace_output_beams, with_members
 
 __all__ = ["Requirement", "beam_passes", "beam_blocked", "power_at_least", "power_at_most",
            "extinction_at_least", "default_requirements", "requirement_margins",
@@ -76,7 +77,7 @@ def default_requirements(prism, wavelength_um=None):
         other = "e" if mode == "o" else "o"
         return (beam_passes(mode * crystals), beam_blocked(other * crystals))
     lam = prism.design_wavelength_um if wavelength_um is None else float(wavelength_um.flat[0])
-    result = prism.trace(lam, 0.0, 0.0, power_threshold=0.0)
+    result = trace_output_beams(prism, lam, 0.0, 0.0, power_threshold=0.0)
     # The spec is about total reflection (the clear aperture is not part of it, see
     # field_of_view): a beam counts unless it is totally reflected, misses a surface or
     # carries under 1 % of the input.
@@ -147,6 +148,9 @@ def requirement_margins(prism, wavelength_um, in_plane_deg, out_of_plane_deg, re
                                   else (np.shape(polarisation)[:-1],)))
 
     def per_ray(result, traced_prism):
+        # Output beams and their member branches (a margin is per branch: see
+        # total_reflection_margin).
+        result = with_members(result, traced_prism)
         system = traced_prism.system()
         ray_shape = np.shape(result.power(next(iter(result.beams))))
         return {i: np.broadcast_to(r.margin(result, system), ray_shape)
@@ -156,7 +160,7 @@ def requirement_margins(prism, wavelength_um, in_plane_deg, out_of_plane_deg, re
     # beam), so their geometry is available for the margins.
     margins = map_rays(prism, lam, in_plane, out_of_plane, offset, per_ray,
                        what="requirement_margins", polarisation=polarisation,
-                       power_threshold=0.0)
+                       power_threshold=0.0, output_beams=False)
     return np.stack([np.broadcast_to(margins[i], shape) for i in range(len(requirements))])
 
 

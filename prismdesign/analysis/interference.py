@@ -22,15 +22,18 @@ points for entry points across the aperture along x (y = 0) is a straight line i
 from the x axis (positive when z increases toward +x). When the two exit rays are parallel (a
 Savart plate) the rays never meet: the plane is at infinity and is reported as such.
 """
+import warnings
 from dataclasses import dataclass, field
 
 import numpy as np
 
+from ..materials.activity import ActivePieceWarning
 from ..optics.vectors import closest_approach, cross, dot, norm
 from ..prisms.base import check_finite, check_prism
 from ._common import (BELOW_POWER_FLOOR, check_ray_inputs, check_wavelengths, input_direction_deg, lost_codes,
                       missing_pair_reason, rank_beams, strip_pair, summarise_loss,
                       warn_missing)
+from .beam_groups import output_beam_trace, trace_output_beams
 from .memory import map_rays
 
 __all__ = ["main_beams", "exit_wave_paths", "optical_path_difference", "shear_mm",
@@ -57,7 +60,7 @@ def main_beams(prism, wavelength_um=None):
     check_prism(prism)
     lam = (prism.design_wavelength_um if wavelength_um is None
            else float(np.ravel(check_wavelengths(wavelength_um))[0]))
-    result = prism.trace(lam, 0.0, 0.0, power_threshold=0.0)
+    result = trace_output_beams(prism, lam, 0.0, 0.0, power_threshold=0.0)
     power = {label: result.power(label) for label in result.beams}
     lost = {label: lost_codes(np.bitwise_or.reduce(beam.flags, axis=0), power[label])
             for label, beam in result.beams.items()}
@@ -106,19 +109,28 @@ def _trace_pair(prism, beams, what, wavelength_um, in_plane_deg, out_of_plane_de
         When one of the beams is lost at some points (the figures are NaN there).
     """
     def per_ray(result, traced_prism):
+        # Output beams (branches of an optically active piece that leave together, added),
+        # and the raw branches too, so that a single branch can still be named.
+        grouped = output_beam_trace(result, traced_prism)
+        available = {**result.beams, **grouped.beams}
         out = {}
         for label in beams:
-            if label not in result.beams:
+            if label not in available:
                 raise ValueError(f"beam {label!r} is not among the traced beams "
-                                 f"{sorted(result.beams)}")
-            beam = strip_pair(result.beams[label], result.incoherent_pair)
+                                 f"{sorted(available)}")
+            beam = strip_pair(available[label], result.incoherent_pair)
             for name, value in zip(_GEOMETRY, (*exit_wave_paths(beam), beam.exit_direction)):
                 out[label, name] = value
             out[label, "lost"] = lost_codes(beam.flags, beam.power)
         return out
 
+    if any("+" in label for label in beams):
+        warnings.warn(f"{what}: {' and '.join(repr(b) for b in beams if '+' in b)} adds "
+                      f"branches of an optically active piece; its phase is taken as its first "
+                      f"branch's, so path differences between or within such beams ignore "
+                      f"the arcsecond beat of its branches", ActivePieceWarning, stacklevel=3)
     table = map_rays(prism, wavelength_um, in_plane_deg, out_of_plane_deg, offset_mm, per_ray,
-                     what=what, power_threshold=0.0,
+                     what=what, power_threshold=0.0, output_beams=False,
                      fill=lambda key: BELOW_POWER_FLOOR if key[1] == "lost" else np.nan)
     lost = {label: table[label, "lost"] for label in beams}
     either = (lost[beams[0]] != 0) | (lost[beams[1]] != 0)

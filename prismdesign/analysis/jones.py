@@ -19,6 +19,7 @@ import numpy as np
 
 from ..prisms.base import check_flag, check_prism
 from ._common import check_ray_inputs, prism_sample_shape, shown
+from .beam_groups import combine_groups, group_labels
 from .memory import check_fits, trace_bytes_per_ray
 
 __all__ = ["JonesResult", "jones_matrices", "mueller_from_jones", "stokes_from_jones"]
@@ -132,7 +133,9 @@ def jones_matrices(prism, wavelength_um, in_plane_deg=0.0, out_of_plane_deg=0.0,
     Returns
     -------
     JonesResult
-        Matrices carry the broadcast shape of the inputs before their last two axes. A branch
+        Matrices carry the broadcast shape of the inputs before their last two axes, one per
+        output beam (branches that leave together, from an optically active piece, are added
+        coherently into one beam: :mod:`~prismdesign.analysis.beam_groups`). A branch
         totally reflected has a zero matrix; rays outside the clear aperture are traced as if
         the prism extended beyond it (see :func:`~prismdesign.analysis.split` for `lost`).
 
@@ -157,6 +160,10 @@ def jones_matrices(prism, wavelength_um, in_plane_deg=0.0, out_of_plane_deg=0.0,
     traces = [prism.trace(wavelength_um, in_plane, out_of_plane, offset_mm=offset_mm,
                           polarisation=pol, power_threshold=0.0)
               for pol in ((1.0, 0.0), (0.0, 1.0))]
+    # Branches that leave together (optically active pieces) become one output beam; the
+    # grouping depends on the geometry only, so the x trace decides it for both columns.
+    groups = [g for g in group_labels(traces[0], prism) if all(m in traces[1].beams for m in g)]
+    traces = [combine_groups(t, groups) for t in traces]
     labels = tuple(label for label in traces[0].beams if label in traces[1].beams)
     jones = {}
     for label in labels:

@@ -16,6 +16,7 @@ import math
 import numpy as np
 
 from ._common import prism_sample_shape
+from .beam_groups import has_active_piece, output_beam_trace
 
 __all__ = ["MEMORY_LIMIT_BYTES", "trace_bytes_per_ray", "format_bytes", "check_fits",
            "map_rays"]
@@ -131,7 +132,7 @@ def _flat_prism(prism, shape, start, stop):
 
 
 def map_rays(prism, wavelength, in_plane, out_of_plane, offset, per_ray, *, what,
-             polarisation="unpolarised", fill=None, **trace_options):
+             polarisation="unpolarised", fill=None, output_beams=True, **trace_options):
     """Trace the rays and reduce each one with `per_ray`, in chunks when memory requires.
 
     Parameters
@@ -151,6 +152,10 @@ def map_rays(prism, wavelength, in_plane, out_of_plane, offset, per_ray, *, what
     fill : callable, optional
         ``fill(key) -> scalar``: value for rays of a chunk in which `per_ray` gave no entry for
         `key` (a beam the trace dropped there). Default NaN.
+    output_beams : bool
+        Hand `per_ray` the trace with its branches grouped into output beams
+        (:mod:`prismdesign.analysis.beam_groups`; a prism without an optically active piece is
+        unchanged); False gives the raw branches.
     **trace_options
         Passed to :meth:`~prismdesign.prisms.Prism.trace`.
 
@@ -161,6 +166,14 @@ def map_rays(prism, wavelength, in_plane, out_of_plane, offset, per_ray, *, what
         exactly `per_ray` of one trace.
     """
     fill = fill or (lambda key: np.nan)
+    if output_beams and has_active_piece(prism):
+        # Keep every branch: pruning one half of an output beam (circularly polarised input
+        # feeds one circular wave only) would change the beam's label with the input.
+        trace_options.setdefault("power_threshold", 0.0)
+        inner = per_ray
+
+        def per_ray(result, traced_prism):
+            return inner(output_beam_trace(result, traced_prism), traced_prism)
     pair = isinstance(polarisation, str)
     shapes = [np.shape(wavelength), np.shape(in_plane), np.shape(out_of_plane),
               np.shape(offset)[:-1], prism_sample_shape(prism)]

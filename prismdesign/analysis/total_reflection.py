@@ -118,7 +118,9 @@ def total_reflection_margin(result, system, label):
     system : SequentialSystem
         The system that was traced.
     label : str
-        Beam label.
+        Beam label; an output beam "a+b" (:mod:`~prismdesign.analysis.beam_groups`) takes the
+        smallest margin of its branches, which `result` must then hold as well
+        (:func:`~prismdesign.analysis.beam_groups.with_members`).
 
     Returns
     -------
@@ -126,6 +128,11 @@ def total_reflection_margin(result, system, label):
         Margin in index² over the bundle shape (the incoherent-pair axis of unpolarised input
         is dropped: geometry is the same for both members).
     """
+    if "+" in label and all(m in result.beams for m in label.split("+")):
+        # An output beam of an optically active piece (analysis.beam_groups) passes where
+        # all of its branches pass.
+        return np.minimum.reduce([total_reflection_margin(result, system, m)
+                                  for m in label.split("+")])
     if label not in result.beams:
         raise ValueError(f"beam {label!r} is not among the traced beams {sorted(result.beams)}")
     margins = surface_margins(result.beams[label], system)

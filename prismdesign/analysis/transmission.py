@@ -34,7 +34,9 @@ class TransmissionResult:
     Attributes
     ----------
     labels : tuple of str
-        Transmitted beams.
+        Transmitted beams: output beams, branches that leave together from an optically
+        active piece added coherently into one (label "a+b",
+        :mod:`~prismdesign.analysis.beam_groups`).
     power : dict[str, ndarray]
         Transmitted power of each beam (fraction of the input power).
     total : ndarray
@@ -48,7 +50,11 @@ class TransmissionResult:
         Power of each reflected branch, by its tracer label (``"<modes>|R<i><mode>"``).
     unaccounted : ndarray
         1 − total − Σ reflected_by_face: branches pruned below the tracer's power threshold (and
-        rays that missed a surface). Of order 1e-12 or less for a well-behaved trace.
+        rays that missed a surface). Of order 1e-12 or less for a well-behaved trace. With an
+        optically active piece and polarised input it also holds the interference of the
+        reflected halves that stay inside a crystal (these are not added into output beams,
+        :mod:`~prismdesign.analysis.beam_groups`): up to the polarisation-dependent Fresnel
+        loss, ~3e-4 for a quartz Rochon with linear input.
     flags : dict[str, ndarray of int]
         :class:`~prismdesign.optics.TraceFlag` bits of each transmitted beam, per ray. Powers
         are computed for every ray, also for one that left the clear aperture

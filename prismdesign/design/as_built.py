@@ -33,6 +33,7 @@ from ..analysis._common import rank_beams, strip_pair
 from .batch_merit import trace_figures
 from .perturbation import apply_errors, parameter
 from .sensitivity import default_step
+from ..analysis.beam_groups import trace_output_beams
 
 __all__ = ["QUANTITIES", "Measurements", "measurements", "read_measurements", "AsBuiltFit",
            "fit_as_built", "UndeterminedParameterWarning"]
@@ -250,8 +251,8 @@ class AsBuiltFit:
 
 def _main_beams(prism, data):
     """The two main beams (or one), ordered by in-plane deviation, at the measurement points."""
-    result = prism.trace(data.wavelength_um, data.in_plane_deg, data.out_of_plane_deg,
-                         polarisation="unpolarised")
+    result = trace_output_beams(prism, data.wavelength_um, data.in_plane_deg,
+                                data.out_of_plane_deg, polarisation="unpolarised")
     beams = {k: strip_pair(b, result.incoherent_pair) for k, b in result.beams.items()}
     main = rank_beams({k: b.power for k, b in beams.items()}, 2)
     deviation = {k: float(np.mean(np.arctan2(beams[k].exit_direction[..., 0],

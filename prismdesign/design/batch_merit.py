@@ -27,6 +27,7 @@ from ..analysis.separation import _radius_mm
 from ..optics.vectors import cross, dot, norm, normalize
 from .merit import LOST_FLAGS, POWER_FLOOR, field_directions_deg, figures
 from .perturbation import apply_errors
+from ..analysis.beam_groups import trace_output_beams
 
 __all__ = ["BatchFigures", "trace_figures", "sample_figures", "sample_margins",
            "face_extent_mm"]
@@ -100,7 +101,8 @@ def trace_figures(prism, wavelength_um, in_plane_deg, out_of_plane_deg, main_lab
     -------
     BatchFigures
     """
-    result = prism.trace(wavelength_um, in_plane_deg, out_of_plane_deg, polarisation="unpolarised")
+    result = trace_output_beams(prism, wavelength_um, in_plane_deg, out_of_plane_deg,
+                                polarisation="unpolarised")
     pair_power = {label: b.power for label, b in result.beams.items()}
     beams = {label: strip_pair(b, result.incoherent_pair) for label, b in result.beams.items()}
     shape = next(iter(beams.values())).power.shape

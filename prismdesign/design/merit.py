@@ -21,6 +21,7 @@ from ..analysis._common import (LOST_FLAGS, LOST_POWER_FLOOR, describe_lost, los
                                 rank_beams, strip_pair)
 from ..analysis.separation import _radius_mm
 from ..optics.vectors import cross, dot, norm, normalize
+from ..analysis.beam_groups import trace_output_beams
 
 __all__ = ["Figures", "Margin", "Assessment", "figures", "assess", "LOST_FLAGS",
            "POWER_FLOOR"]
@@ -122,8 +123,8 @@ def figures(prism, requirement, *, main_count=None):
     """
     lam = requirement.wavelengths_um
     in_plane, out_of_plane = field_directions_deg(requirement.field_half_angle_deg)
-    result = prism.trace(lam[:, None], in_plane[None, :], out_of_plane[None, :],
-                         polarisation="unpolarised")
+    result = trace_output_beams(prism, lam[:, None], in_plane[None, :], out_of_plane[None, :],
+                                polarisation="unpolarised")
     pair_power = {label: beam.power for label, beam in result.beams.items()}
     beams = {label: strip_pair(beam, result.incoherent_pair) for label, beam in result.beams.items()}
     power = {label: beam.power for label, beam in beams.items()}

@@ -35,11 +35,11 @@ HANDEDNESS = ("right", "left")
 
 
 class ActivePieceWarning(UserWarning):
-    """A prism holds an optically active piece: each beam in it is two elliptical-wave branches.
+    """An analysis meets an optically active piece where it cannot fully describe it.
 
-    The analyses rank beams by power and pair the two strongest; with an active piece two of
-    the four branches may leave together (e.g. a quartz Rochon's undeviated beam is the
-    coherent sum of "oo" and "eo"), so pairings and splits need the caller's care.
+    The analyses add the branches of an active piece that leave together into one output beam
+    (:mod:`prismdesign.analysis.beam_groups`); what remains is the phase of such a beam, which
+    the interference analyses take from its first branch (they warn with this class).
     """
 
 

@@ -5,14 +5,12 @@ prism extends toward +z, x lies in the principal section (the plane in which the
 y completes a right-handed frame. Optic axes are unit vectors in this global frame. The clear
 aperture is `width_mm` along x by `height_mm` along y, centred on the z axis.
 """
-import warnings
 from dataclasses import dataclass, field, replace
 
 import numpy as np
 
 from .._display import shown
 from ..materials import material as library_material
-from ..materials.activity import ActivePieceWarning
 from ..optics import (FixedIndices, Medium, RectangularAperture, SequentialSystem, Surface,
                       ThinLayer, direction_from_angles, trace)
 from ..optics.vectors import as_unit_vectors
@@ -400,18 +398,11 @@ class Prism:
     def system(self):
         """The prism as a :class:`~prismdesign.optics.SequentialSystem`.
 
-        Warns (:class:`~prismdesign.materials.activity.ActivePieceWarning`) when a piece is
-        optically active (a crystal given a hand).
+        The branches of an optically active piece (a crystal given a hand) are traced
+        separately; the analyses add those that leave together into one output beam
+        (:mod:`prismdesign.analysis.beam_groups`).
         """
         media = self.media()
-        active = [p.label or p.material.name for p in self.pieces
-                  if getattr(p.material, "handedness", None) is not None]
-        if active:
-            warnings.warn(f"optically active piece(s) {', '.join(active)}: each beam there is two "
-                          f"elliptical-wave branches; beams that leave together (e.g. 'oo' and "
-                          f"'eo') add coherently, so check the analyses' main-beam pairing "
-                          f"(main_labels) and sum such branches' Jones vectors with their path "
-                          f"phase", ActivePieceWarning, stacklevel=2)
         surfaces = []
         lam = self.design_wavelength_um
         for i, b in enumerate(self.boundaries):
