@@ -3,8 +3,9 @@
 Crystals come from the library (uniaxial ones whose data cover the band), or the
 requirement's list. Two-crystal types try the crystal pairs whose thin-prism estimate
 (:func:`~prismdesign.design.solve.thin_prism_pair`) holds the split flattest, and solve the
-best few exactly. Designs that meet every requirement come first (shortest prism first, then
-the most room on the active requirement); then the others, closest first, each with the
+best few exactly. Designs that meet every requirement come first (shortest prism first, lengths
+within 0.1 mm counting as equal; then the higher transmission; then the most room on the
+active requirement); then the others, closest first, each with the
 requirement it misses.
 """
 from dataclasses import dataclass
@@ -80,8 +81,8 @@ class Ranking:
         for rank, d in enumerate(self.designs, 1):
             a = d.assessment
             figs = a.figures if a is not None else None
-            trans = (min(float(np.nanmin(v[:, 0])) for v in figs.transmittance.values())
-                     if figs is not None and figs.transmittance else float("nan"))
+            trans = (_lowest_transmittance(a) if figs is not None and figs.transmittance
+                     else float("nan"))
             active = a.active if a is not None else None
             rows.append(dict(
                 rank=rank, prism_type=d.prism_type,
@@ -133,10 +134,22 @@ class Ranking:
                           indent=2, default=lambda v: list(v) if isinstance(v, tuple) else str(v))
 
 
+#: Lengths that differ by less than this (mm) count as equal when ranking designs that meet
+#: the requirement; the higher transmission then ranks first (a shop cannot hold a prism's
+#: length to better than ~0.1 mm anyway; common practice, no source).
+LENGTH_STEP_MM = 0.1
+
+
+def _lowest_transmittance(assessment):
+    values = [np.nanmin(v[:, 0]) for v in assessment.figures.transmittance.values()]
+    return float(min(values)) if values else 0.0
+
+
 def _rank_key(design):
     a = design.assessment
     if design.meets:
-        return (0, a.figures.length_mm, -a.active.relative if a.active else 0.0)
+        return (0, round(a.figures.length_mm / LENGTH_STEP_MM), -_lowest_transmittance(a),
+                -a.active.relative if a.active else 0.0)
     if a is None:
         return (2, np.inf, 0.0)
     worst = min((m.relative for m in a.margins), default=-np.inf)
