@@ -192,3 +192,21 @@ def test_batched_equals_loop():
             for label in single.main_labels:
                 assert single.other_power[label] == pytest.approx(batched.other_power[label][i, k],
                                                                   rel=1e-9, abs=1e-20)
+
+
+def test_own_nominal_reuses_traces_without_changing_results():
+    """A prism that is its own nominal reuses its unpolarised trace and its Jones matrices
+    (issue 11: fewer traces); the figures equal those of the path that traces the nominal
+    separately, exactly (a loop-free invariant: same rays, same arithmetic)."""
+    from prismdesign.analysis import perturb_axes
+    from prismdesign.prisms import wollaston
+    prism = perturb_axes(wollaston("calcite", 15.0), np.array([0.0, 0.2, -0.3])[:, None],
+                         np.array([0.1, 0.0, 0.05])[:, None], piece=0)
+    lam = np.array([0.55, 0.65])
+    alone = extinction(prism, lam)
+    twice = extinction(prism, lam, nominal=prism)
+    for name in ("power", "beam_purity_ratio", "analyser_extinction_ratio", "other_power"):
+        a, b = getattr(alone, name), getattr(twice, name)
+        assert a.keys() == b.keys()
+        for label in a:
+            np.testing.assert_array_equal(a[label], b[label])

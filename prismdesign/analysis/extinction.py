@@ -42,7 +42,7 @@ from ._common import (BELOW_POWER_FLOOR, as_output, check_main_labels, check_non
 from .beam_groups import trace_output_beams
 from .memory import check_fits, trace_bytes_per_ray
 from .deviation import angle_between_deg
-from .jones import jones_matrices
+from .jones import jones_columns
 
 __all__ = ["ExtinctionResult", "extinction", "perturb_axes"]
 
@@ -161,8 +161,10 @@ def _check_extinction_fits(prism, nominal, wavelength, in_plane, out_of_plane, o
                            polarisation):
     """Refuse, with the estimate, an extinction analysis whose traces would not fit in memory.
 
-    Up to four traces are alive at once (nominal unpolarised, assessed, assessed unpolarised,
-    and one of the four single-polarisation traces behind the two sets of Jones matrices).
+    Up to seven traced polarisation states are alive at once with a separate nominal prism
+    (nominal unpolarised pair, assessed, assessed unpolarised pair, and the single-polarisation
+    traces behind the two sets of Jones matrices); a prism that is its own nominal, assessed
+    for unpolarised light, needs four (one unpolarised pair, one set of Jones traces).
     """
     shapes = [wavelength.shape, in_plane.shape, out_of_plane.shape, offset.shape[:-1],
               prism_sample_shape(prism)]
@@ -172,8 +174,9 @@ def _check_extinction_fits(prism, nominal, wavelength, in_plane, out_of_plane, o
         shapes.append(polarisation.shape[:-1])
     rays = int(np.prod(np.broadcast_shapes(*shapes)))
     per = trace_bytes_per_ray(prism)
-    check_fits("extinction", rays * per * 7, f"{rays} rays × 7 traced polarisation states × "
-               f"{per} bytes", "ask for fewer points or fewer samples")
+    states = 4 if nominal is None and isinstance(polarisation, str) else 7
+    check_fits("extinction", rays * per * states, f"{rays} rays × {states} traced polarisation "
+               f"states × {per} bytes", "ask for fewer points or fewer samples")
 
 
 def _principal_polarisation(beam, pair):
@@ -267,8 +270,11 @@ def extinction(prism, wavelength_um, in_plane_deg=0.0, out_of_plane_deg=0.0, *,
         main = rank_beams({label: b.power for label, b in ref_beams.items()}, lost=ref_lost)
     else:
         main = check_main_labels(main_labels, ref_beams)
-    result = trace_output_beams(prism, *args, offset_mm=offset_mm, polarisation=polarisation,
-                                power_threshold=power_threshold)
+    if nominal is None and isinstance(polarisation, str):
+        result = reference      # the same unpolarised trace of the same prism
+    else:
+        result = trace_output_beams(prism, *args, offset_mm=offset_mm,
+                                    polarisation=polarisation, power_threshold=power_threshold)
     pair = result.incoherent_pair
     beams = result.beams
     geometry = {label: strip_pair(b, pair) for label, b in beams.items()}
@@ -287,9 +293,10 @@ def extinction(prism, wavelength_um, in_plane_deg=0.0, out_of_plane_deg=0.0, *,
                                          power_threshold=power_threshold)
     assessed_lost = {label: lost_codes(strip_pair(b, True).flags, strip_pair(b, True).power)
                      for label, b in unpolarised.beams.items()}
-    jones_args = dict(offset_mm=offset_mm)
-    nominal_jones = jones_matrices(prism if nominal is None else nominal, *args, **jones_args).jones
-    prism_jones = jones_matrices(prism, *args, **jones_args).jones
+    prism_jones = jones_columns(prism, *args, offset_mm)[1]
+    # A prism that is its own nominal needs its Jones matrices once.
+    nominal_jones = (prism_jones if nominal is None
+                     else jones_columns(nominal, *args, offset_mm)[1])
     wanted_jones, wanted, other, ratio, coinciding = {}, {}, {}, {}, {}
     input_jones, input_ratio, lost = {}, {}, {}
     for label in main:

@@ -112,6 +112,34 @@ def mueller_from_jones(jones):
     return (_A @ kron @ _A_INV).real
 
 
+def jones_columns(prism, wavelength_um, in_plane, out_of_plane, offset_mm,
+                  include_path_phase=False):
+    """Jones matrix of every output beam from one trace per input basis state, unchecked.
+
+    For analyses that have checked their inputs already and need the matrices only (not the
+    Mueller matrices :func:`jones_matrices` adds).
+
+    Returns
+    -------
+    labels : tuple of str
+    jones : dict[str, complex ndarray, shape (..., 2, 2)]
+    """
+    # No pruning: a branch must exist in both traces to fill both columns.
+    traces = [prism.trace(wavelength_um, in_plane, out_of_plane, offset_mm=offset_mm,
+                          polarisation=pol, power_threshold=0.0)
+              for pol in ((1.0, 0.0), (0.0, 1.0))]
+    # Branches that leave together (optically active pieces) become one output beam; the
+    # grouping depends on the geometry only, so the x trace decides it for both columns.
+    groups = [g for g in group_labels(traces[0], prism) if all(m in traces[1].beams for m in g)]
+    traces = [combine_groups(t, groups) for t in traces]
+    labels = tuple(label for label in traces[0].beams if label in traces[1].beams)
+    jones = {}
+    for label in labels:
+        columns = [t.beams[label].jones(include_path_phase=include_path_phase) for t in traces]
+        jones[label] = np.stack(columns, axis=-1)
+    return labels, jones
+
+
 def jones_matrices(prism, wavelength_um, in_plane_deg=0.0, out_of_plane_deg=0.0, *,
                    offset_mm=(0.0, 0.0), include_path_phase=False):
     """Jones matrix (and Mueller matrix) of each beam leaving the prism.
@@ -156,19 +184,8 @@ def jones_matrices(prism, wavelength_um, in_plane_deg=0.0, out_of_plane_deg=0.0,
     per = trace_bytes_per_ray(prism)
     check_fits("jones_matrices", 2 * rays * per, f"{rays} rays × 2 input polarisations × "
                f"{per} bytes", "ask for fewer points")
-    # No pruning: a branch must exist in both traces to fill both columns.
-    traces = [prism.trace(wavelength_um, in_plane, out_of_plane, offset_mm=offset_mm,
-                          polarisation=pol, power_threshold=0.0)
-              for pol in ((1.0, 0.0), (0.0, 1.0))]
-    # Branches that leave together (optically active pieces) become one output beam; the
-    # grouping depends on the geometry only, so the x trace decides it for both columns.
-    groups = [g for g in group_labels(traces[0], prism) if all(m in traces[1].beams for m in g)]
-    traces = [combine_groups(t, groups) for t in traces]
-    labels = tuple(label for label in traces[0].beams if label in traces[1].beams)
-    jones = {}
-    for label in labels:
-        columns = [t.beams[label].jones(include_path_phase=include_path_phase) for t in traces]
-        jones[label] = np.stack(columns, axis=-1)
+    labels, jones = jones_columns(prism, wavelength_um, in_plane, out_of_plane, offset_mm,
+                                  include_path_phase)
     mueller = {label: mueller_from_jones(j) for label, j in jones.items()}
     return JonesResult(labels=labels, jones=jones, mueller=mueller,
                        include_path_phase=bool(include_path_phase))
