@@ -123,3 +123,29 @@ def test_format_bytes():
     assert memory.format_bytes(512) == "512 B"
     assert memory.format_bytes(3 * 2 ** 30) == "3 GiB"
     assert memory.format_bytes(7.28 * 2 ** 40) == "7.28 TiB"
+
+
+def test_chunks_slice_per_sample_faces_and_layers(monkeypatch):
+    """Perturbed prisms of the tolerancing layer carry per-sample face normals and points and
+    per-sample gap thicknesses: chunked analyses must slice them with the rays (batch ==
+    chunks, exactly), and the sample shape must count them."""
+    from prismdesign.analysis._common import prism_sample_shape
+    from prismdesign.design import apply_errors
+    from prismdesign.prisms import glan_air_spaced
+
+    base = wollaston("calcite", 15.0)
+    built, _ = apply_errors(base, {"face1_angle_deg": np.linspace(-0.5, 0.5, 7)[:, None]})
+    assert prism_sample_shape(built) == (7, 1)
+    lam = np.linspace(0.5, 0.7, 4)
+    whole = split(built, lam)
+    _small_limit(monkeypatch, built, 5)
+    chunked = split(built, lam)
+    _assert_same(whole.split_deg, chunked.split_deg)
+    glan = glan_air_spaced("calcite", 39.0)
+    gapped, _ = apply_errors(glan, {"face1_layer_thickness_mm": np.array([-0.002, 0.0, 0.003])})
+    assert prism_sample_shape(gapped) == (3,)
+    monkeypatch.undo()
+    whole = transmission(gapped, 0.6328)
+    _small_limit(monkeypatch, gapped, 1)
+    chunked = transmission(gapped, 0.6328)
+    _assert_same(whole.power, chunked.power)

@@ -181,11 +181,15 @@ def warn_missing(message):
 
 
 def prism_sample_shape(prism):
-    """Broadcast shape of the sample axes carried by a prism's optic axes and temperatures
-    (() when none)."""
+    """Broadcast shape of the sample axes a prism carries (() when none): optic axes,
+    temperatures, boundary points and normals, and thin-layer thickness and index offsets."""
     shapes = [np.shape(p.optic_axis)[:-1] for p in prism.pieces if p.optic_axis is not None]
     shapes += [np.shape(t) for t in (prism.temperature_c,
                                      *(p.temperature_c for p in prism.pieces)) if t is not None]
+    for b in prism.boundaries:
+        shapes += [np.shape(b.point_mm)[:-1], np.shape(b.normal)[:-1]]
+        if b.layer is not None:
+            shapes += [np.shape(b.layer.thickness_mm), np.shape(b.layer.index_offset)]
     try:
         return np.broadcast_shapes(*shapes) if shapes else ()
     except ValueError:

@@ -111,24 +111,30 @@ def check_fits(what, estimate_bytes, detail, remedy):
 
 
 def _flat_prism(prism, shape, start, stop):
-    """The prism with its optic-axis and temperature samples broadcast to `shape`, flattened
-    and sliced like the rays of the chunk."""
+    """The prism with its sample arrays (optic axes, temperatures, boundary points and normals,
+    thin-layer thickness and index offsets) broadcast to `shape`, flattened and sliced like the
+    rays of the chunk."""
     from dataclasses import replace
 
-    def flat_temperature(t):
-        if t is None or np.ndim(t) == 0:
-            return t
-        return np.broadcast_to(t, shape).reshape(-1)[start:stop]
+    def flat(value, core=0):
+        """A per-sample array sliced like the rays; a plain value unchanged."""
+        if value is None or np.ndim(value) <= core:
+            return value
+        tail = np.shape(value)[np.ndim(value) - core:]
+        return np.broadcast_to(value, shape + tail).reshape((-1,) + tail)[start:stop]
 
-    pieces = []
-    for piece in prism.pieces:
-        piece = replace(piece, temperature_c=flat_temperature(piece.temperature_c))
-        if piece.optic_axis is None or np.ndim(piece.optic_axis) == 1:
-            pieces.append(piece)
-            continue
-        axes = np.broadcast_to(piece.optic_axis, shape + (3,)).reshape(-1, 3)[start:stop]
-        pieces.append(replace(piece, optic_axis=axes))
-    return replace(prism, pieces=pieces, temperature_c=flat_temperature(prism.temperature_c))
+    pieces = [replace(piece, temperature_c=flat(piece.temperature_c),
+                      optic_axis=flat(piece.optic_axis, 1)) for piece in prism.pieces]
+    boundaries = []
+    for b in prism.boundaries:
+        layer = b.layer
+        if layer is not None:
+            layer = replace(layer, thickness_mm=flat(layer.thickness_mm),
+                            index_offset=flat(layer.index_offset))
+        boundaries.append(replace(b, point_mm=flat(b.point_mm, 1), normal=flat(b.normal, 1),
+                                  layer=layer))
+    return replace(prism, pieces=pieces, boundaries=boundaries,
+                   temperature_c=flat(prism.temperature_c))
 
 
 def map_rays(prism, wavelength, in_plane, out_of_plane, offset, per_ray, *, what,
