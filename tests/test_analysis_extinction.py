@@ -196,8 +196,9 @@ def test_batched_equals_loop():
 
 def test_own_nominal_reuses_traces_without_changing_results():
     """A prism that is its own nominal reuses its unpolarised trace and its Jones matrices
-    (issue 11: fewer traces); the figures equal those of the path that traces the nominal
-    separately, exactly (a loop-free invariant: same rays, same arithmetic)."""
+    (issue 11: fewer traces; the unpolarised pair doubles as the Jones traces); the figures
+    equal those of the path that traces the nominal separately, to rounding (the pair carries
+    the x and y inputs at amplitude 1/√2)."""
     from prismdesign.analysis import perturb_axes
     from prismdesign.prisms import wollaston
     prism = perturb_axes(wollaston("calcite", 15.0), np.array([0.0, 0.2, -0.3])[:, None],
@@ -209,4 +210,6 @@ def test_own_nominal_reuses_traces_without_changing_results():
         a, b = getattr(alone, name), getattr(twice, name)
         assert a.keys() == b.keys()
         for label in a:
-            np.testing.assert_array_equal(a[label], b[label])
+            # Ratios above 1e20 are rounding-level "other" powers (0 or 1e-37): cap them.
+            cap = (lambda v: np.minimum(v, 1e20)) if name.endswith("ratio") else (lambda v: v)
+            np.testing.assert_allclose(cap(a[label]), cap(b[label]), rtol=1e-9, atol=1e-24)

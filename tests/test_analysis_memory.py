@@ -149,3 +149,25 @@ def test_chunks_slice_per_sample_faces_and_layers(monkeypatch):
     _small_limit(monkeypatch, gapped, 1)
     chunked = transmission(gapped, 0.6328)
     _assert_same(whole.power, chunked.power)
+
+
+@pytest.mark.parametrize("with_nominal", [True, False])
+@pytest.mark.parametrize("polarisation", ["unpolarised", (np.sqrt(0.5), 1j * np.sqrt(0.5))])
+def test_chunked_extinction_equals_one_batch(monkeypatch, with_nominal, polarisation):
+    # Monte Carlo axis errors streamed in chunks of rays (issue 11: memory bounded by a
+    # chunk): every figure equals the one-batch analysis exactly.
+    nominal = wollaston("calcite", 15.0)
+    rng = np.random.default_rng(3)
+    prism = perturb_axes(nominal, rng.normal(0, 0.3, 9)[:, None], rng.normal(0, 0.3, 9)[:, None],
+                         piece=0)
+    lam = np.array([0.55, 0.65, 0.75])
+    kwargs = dict(nominal=nominal if with_nominal else None, polarisation=polarisation)
+    whole = extinction(prism, lam, **kwargs)
+    _small_limit(monkeypatch, prism, 4)
+    chunked = extinction(prism, lam, **kwargs)
+    assert chunked.main_labels == whole.main_labels
+    for name in ("power", "wanted_power", "other_power", "beam_purity_ratio",
+                 "analyser_extinction_ratio", "wanted_jones", "input_jones", "lost",
+                 "leakage_power"):
+        _assert_same(getattr(whole, name), getattr(chunked, name))
+    _assert_same(whole.leakage_fraction, chunked.leakage_fraction)

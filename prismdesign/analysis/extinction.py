@@ -30,7 +30,7 @@ Definitions used here:
 Axis errors enter through :func:`perturb_axes`, which accepts arrays of errors (Monte Carlo):
 the optic axes then carry leading sample axes that broadcast against the rays.
 """
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, fields, replace
 
 import numpy as np
 
@@ -40,7 +40,8 @@ from ._common import (BELOW_POWER_FLOOR, as_output, check_main_labels, check_non
                       check_numbers, check_polarisation, check_ray_inputs, check_shapes,
                       lost_codes, prism_sample_shape, rank_beams, shown, strip_pair)
 from .beam_groups import trace_output_beams
-from .memory import check_fits, trace_bytes_per_ray
+from . import memory
+from .memory import _flat_prism, trace_bytes_per_ray
 from .deviation import angle_between_deg
 from .jones import jones_columns
 
@@ -157,14 +158,14 @@ class ExtinctionResult:
     leakage_fraction: object
 
 
-def _check_extinction_fits(prism, nominal, wavelength, in_plane, out_of_plane, offset,
-                           polarisation):
-    """Refuse, with the estimate, an extinction analysis whose traces would not fit in memory.
+def _extinction_size(prism, nominal, wavelength, in_plane, out_of_plane, offset, polarisation):
+    """Ray shape of an extinction analysis and its estimated peak memory (bytes).
 
     Up to seven traced polarisation states are alive at once with a separate nominal prism
     (nominal unpolarised pair, assessed, assessed unpolarised pair, and the single-polarisation
-    traces behind the two sets of Jones matrices); a prism that is its own nominal, assessed
-    for unpolarised light, needs four (one unpolarised pair, one set of Jones traces).
+    traces behind the two sets of Jones matrices); for unpolarised input the assessed pair
+    (x and y input side by side) is the Jones traces too, so two states suffice. A nominal
+    prism without sample axes traces only the unperturbed rays and is not counted.
     """
     shapes = [wavelength.shape, in_plane.shape, out_of_plane.shape, offset.shape[:-1],
               prism_sample_shape(prism)]
@@ -172,11 +173,88 @@ def _check_extinction_fits(prism, nominal, wavelength, in_plane, out_of_plane, o
         shapes.append(prism_sample_shape(nominal))
     if not isinstance(polarisation, str):
         shapes.append(polarisation.shape[:-1])
-    rays = int(np.prod(np.broadcast_shapes(*shapes)))
+    shape = np.broadcast_shapes(*shapes)
     per = trace_bytes_per_ray(prism)
-    states = 4 if nominal is None and isinstance(polarisation, str) else 7
-    check_fits("extinction", rays * per * states, f"{rays} rays × {states} traced polarisation "
-               f"states × {per} bytes", "ask for fewer points or fewer samples")
+    own = nominal is None or prism_sample_shape(nominal) == ()
+    # The unpolarised pair doubles as the Jones traces when nothing is pruned.
+    states = 2 if own and isinstance(polarisation, str) else (5 if own else 7)
+    return shape, int(np.prod(shape)) * per * states, per * states
+
+
+def _join(parts, shape):
+    """One ExtinctionResult from the results of consecutive chunks of the flattened rays."""
+    joined = {}
+    for f in fields(ExtinctionResult):
+        values = [getattr(part, f.name) for part in parts]
+        if f.name == "main_labels":
+            joined[f.name] = values[0]
+        elif f.name == "labels":
+            joined[f.name] = tuple(dict.fromkeys(label for v in values for label in v))
+        elif f.name == "coinciding":
+            keys = dict.fromkeys(k for v in values for k in v)
+            joined[f.name] = {k: tuple(dict.fromkeys(m for v in values for m in v.get(k, ())))
+                              for k in keys}
+        elif isinstance(values[0], dict):
+            joined[f.name] = {}
+            for key in dict.fromkeys(k for v in values for k in v):
+                pieces = []
+                for part, v in zip(parts, values):
+                    size = np.size(part.leakage_fraction)
+                    if key in v:
+                        pieces.append(np.asarray(v[key]).reshape((size,) + np.shape(v[key])[
+                            np.ndim(v[key]) - _tail(f.name):]))
+                    else:
+                        # A branch the chunk's trace never formed carries nothing there.
+                        tail = next(np.shape(w[key])[np.ndim(w[key]) - _tail(f.name):]
+                                    for w in values if key in w)
+                        pieces.append(np.zeros((size,) + tail))
+                joined[f.name][key] = as_output(np.concatenate(pieces).reshape(
+                    shape + pieces[0].shape[1:]))
+        else:
+            joined[f.name] = as_output(np.concatenate(
+                [np.asarray(v).reshape(-1) for v in values]).reshape(shape))
+    return ExtinctionResult(**joined)
+
+
+def _tail(name):
+    """Trailing axes of a result field that are its own (a Jones vector's 2)."""
+    return 1 if name in ("wanted_jones", "input_jones") else 0
+
+
+def _extinction_in_chunks(prism, nominal, wavelength, in_plane, out_of_plane, offset,
+                          polarisation, shape, per_ray_bytes, options):
+    """The extinction analysis over consecutive chunks of the flattened rays (and samples).
+
+    The main beams are fixed by the first chunk (or given), so every chunk reports on the same
+    beams; each chunk is an ordinary call, sized to a quarter of the memory limit.
+    """
+    count = int(np.prod(shape))
+    size = max(1, memory.MEMORY_LIMIT_BYTES // 4 // per_ray_bytes)
+    flat = [np.broadcast_to(a, shape).reshape(-1) for a in (wavelength, in_plane, out_of_plane)]
+    flat_offset = np.broadcast_to(offset, shape + (2,)).reshape(-1, 2)
+    pair = isinstance(polarisation, str)
+    flat_pol = polarisation if pair else np.broadcast_to(polarisation, shape + (2,)).reshape(-1, 2)
+    sampled_nominal = nominal is not None and prism_sample_shape(nominal) != ()
+    parts, main = [], options.pop("main_labels")
+    for start in range(0, count, size):
+        stop = min(start + size, count)
+        part = extinction(
+            _flat_prism(prism, shape, start, stop), *(a[start:stop] for a in flat),
+            offset_mm=flat_offset[start:stop],
+            polarisation=flat_pol if pair else flat_pol[start:stop],
+            nominal=_flat_prism(nominal, shape, start, stop) if sampled_nominal else nominal,
+            main_labels=main, **options)
+        if start == 0:
+            # The first chunk shows how large the results are: refuse before computing them all.
+            per_result = sum(np.asarray(a).nbytes for f in fields(ExtinctionResult)
+                             if isinstance(v := getattr(part, f.name), dict)
+                             for a in v.values() if not isinstance(a, tuple)) / (stop - start)
+            memory.check_fits("extinction", per_result * count, f"{count} rays × "
+                              f"{per_result:.0f} bytes of results each",
+                              "ask for fewer points or fewer samples")
+        main = part.main_labels
+        parts.append(part)
+    return _join(parts, shape)
 
 
 def _principal_polarisation(beam, pair):
@@ -252,8 +330,14 @@ def extinction(prism, wavelength_um, in_plane_deg=0.0, out_of_plane_deg=0.0, *,
         prism=prism)
     if nominal is not None:
         check_ray_inputs(wavelength, in_plane, out_of_plane, offset_mm, prism=nominal)
-    _check_extinction_fits(prism, nominal, wavelength, in_plane, out_of_plane, offset_mm,
-                           polarisation)
+    shape, estimate, per_ray = _extinction_size(prism, nominal, wavelength, in_plane,
+                                                out_of_plane, offset_mm, polarisation)
+    if estimate > memory.MEMORY_LIMIT_BYTES // 4 and np.prod(shape) > 1:
+        # Stream over chunks of rays: peak memory is bounded by a chunk, not by the samples.
+        return _extinction_in_chunks(
+            prism, nominal, wavelength, in_plane, out_of_plane, offset_mm, polarisation, shape,
+            per_ray, dict(coincidence_deg=coincidence_deg, coincidence_mm=coincidence_mm,
+                          main_labels=main_labels, power_threshold=power_threshold))
     coincidence_deg = check_non_negative("coincidence_deg", coincidence_deg,
                                          "a finite angle in degrees >= 0")
     coincidence_mm = check_non_negative("coincidence_mm", coincidence_mm,
@@ -293,7 +377,13 @@ def extinction(prism, wavelength_um, in_plane_deg=0.0, out_of_plane_deg=0.0, *,
                                          power_threshold=power_threshold)
     assessed_lost = {label: lost_codes(strip_pair(b, True).flags, strip_pair(b, True).power)
                      for label, b in unpolarised.beams.items()}
-    prism_jones = jones_columns(prism, *args, offset_mm)[1]
+    if pair and power_threshold == 0.0:
+        # The unpolarised trace is the x and the y input traced side by side (each at half
+        # power, amplitude 1/√2) without pruning: its two members are the Jones columns.
+        prism_jones = {label: np.sqrt(2.0) * np.stack(list(b.jones()), axis=-1)
+                       for label, b in beams.items()}
+    else:
+        prism_jones = jones_columns(prism, *args, offset_mm)[1]
     # A prism that is its own nominal needs its Jones matrices once.
     nominal_jones = (prism_jones if nominal is None
                      else jones_columns(nominal, *args, offset_mm)[1])
