@@ -21,7 +21,7 @@ import warnings
 import numba
 import numpy as np
 
-from . import linear4
+from . import interface, linear4
 
 __all__ = ["kernel", "solve_rays"]
 
@@ -81,22 +81,15 @@ def local_field(q, kappa, n_o, n_e, cx, cy, cz, extraordinary, tol2):
         dx = dx * 0.0
         dy = dy * 0.0 + 1.0
         dz = dz * 0.0
-    along = (kappa * dx + q * dz) / (kappa * kappa + q * q)
-    dx = dx - along * kappa
-    dz = dz - along * q
-    if not extraordinary:
-        return dx, dy, dz
-    ex = -q * dy
-    ey = q * dx - kappa * dz
-    ez = kappa * dy
-    inv_no2 = 1.0 / (n_o * n_o)
-    gamma = (1.0 / (n_e * n_e) - inv_no2) * (cx * ex + cy * ey + cz * ez)
-    return ex * inv_no2 + gamma * cx, ey * inv_no2 + gamma * cy, ez * inv_no2 + gamma * cz
+    return _field_from_d(q, kappa, dx, dy, dz, n_o, n_e, cx, cy, cz, extraordinary)
 
 @_jit()
 def unit(fx, fy, fz):
     size = np.sqrt(abs2(fx) + abs2(fy) + abs2(fz))
     return fx / size, fy / size, fz / size
+
+# interface's D → E step, compiled: one source for both paths.
+_field_from_d = _jit()(interface.field_from_d)
 
 # The expansion itself is linear4's, compiled: one source for both paths.
 _cofactor_solve = _jit()(linear4.cofactor_solve)
