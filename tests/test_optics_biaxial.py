@@ -313,7 +313,8 @@ def test_wave_indices_and_fields_obey_fresnels_equation_of_wave_normals():
     s2 = uc ** 2
     lin = (s2[:, 0] * (b[:, 1] + b[:, 2]) + s2[:, 1] * (b[:, 0] + b[:, 2])
            + s2[:, 2] * (b[:, 0] + b[:, 1]))
-    const = s2[:, 0] * b[:, 1] * b[:, 2] + s2[:, 1] * b[:, 0] * b[:, 2] + s2[:, 2] * b[:, 0] * b[:, 1]
+    const = (s2[:, 0] * b[:, 1] * b[:, 2] + s2[:, 1] * b[:, 0] * b[:, 2]
+             + s2[:, 2] * b[:, 0] * b[:, 1])
     root = np.sqrt(lin * lin - 4.0 * const)
     a_fast, a_slow = 0.5 * (lin + root), 0.5 * (lin - root)   # larger 1/n² is the faster wave
     assert np.abs(modes.index_fast - 1.0 / np.sqrt(a_fast)).max() <= 1e-10
