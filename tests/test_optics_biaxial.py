@@ -294,6 +294,40 @@ def test_optic_axis_angle_is_where_the_waves_meet(name, wavelength_um):
     assert split(np.deg2rad(v_deg + 1.0)) > 1e-5
 
 
+def test_wave_indices_and_fields_obey_fresnels_equation_of_wave_normals():
+    # Fresnel's equation of wave normals, Σₖ uₖ²/(1/n² − 1/nₖ²) = 0 in the crystal frame
+    # (M. Born & E. Wolf, *Principles of Optics*, 7th ed., §15.2.3, from memory), cleared of
+    # fractions: a quadratic in a = 1/n² whose two roots are the two phase indices; the
+    # displacement of each wave is Dₖ ∝ uₖ/(a − 1/nₖ²) (same section) and E = ε⁻¹D.
+    rng = np.random.default_rng(7)
+    m = 200
+    n = np.sort(rng.uniform(1.4, 2.2, size=(m, 3)), axis=1)
+    n_x, n_y, n_z = n.T
+    axes = np.stack([random_rotation(rng) for _ in range(m)])
+    u = rng.normal(size=(m, 3))
+    u /= np.linalg.norm(u, axis=1)[:, None]
+    modes = biaxial_modes(u, n_x, n_y, n_z, axes)
+
+    uc = np.einsum("mij,mj->mi", axes, u)                   # crystal-frame components
+    b = 1.0 / n ** 2
+    s2 = uc ** 2
+    lin = (s2[:, 0] * (b[:, 1] + b[:, 2]) + s2[:, 1] * (b[:, 0] + b[:, 2])
+           + s2[:, 2] * (b[:, 0] + b[:, 1]))
+    const = (s2[:, 0] * b[:, 1] * b[:, 2] + s2[:, 1] * b[:, 0] * b[:, 2]
+             + s2[:, 2] * b[:, 0] * b[:, 1])
+    root = np.sqrt(lin * lin - 4.0 * const)
+    a_fast, a_slow = 0.5 * (lin + root), 0.5 * (lin - root)   # larger 1/n² is the faster wave
+    assert np.abs(modes.index_fast - 1.0 / np.sqrt(a_fast)).max() <= 1e-10
+    assert np.abs(modes.index_slow - 1.0 / np.sqrt(a_slow)).max() <= 1e-10
+
+    for a, field in ((a_fast, modes.field_fast), (a_slow, modes.field_slow)):
+        e_expected = b * uc / (a[:, None] - b)
+        e_expected = np.einsum("mji,mj->mi", axes, e_expected)  # back to the global frame
+        e_expected /= np.linalg.norm(e_expected, axis=1)[:, None]
+        overlap = np.abs(np.einsum("mi,mi->m", field.conj(), e_expected))
+        assert np.abs(overlap - 1.0).max() <= 1e-9
+
+
 def test_optic_axis_angle_refuses_unordered_indices():
     with pytest.raises(ValueError, match="n_x < n_y < n_z"):
         optic_axis_angle_deg(1.6, 1.5, 1.8)

@@ -21,6 +21,8 @@ import warnings
 import numba
 import numpy as np
 
+from . import interface, linear4
+
 __all__ = ["kernel", "solve_rays"]
 
 
@@ -79,22 +81,19 @@ def local_field(q, kappa, n_o, n_e, cx, cy, cz, extraordinary, tol2):
         dx = dx * 0.0
         dy = dy * 0.0 + 1.0
         dz = dz * 0.0
-    along = (kappa * dx + q * dz) / (kappa * kappa + q * q)
-    dx = dx - along * kappa
-    dz = dz - along * q
-    if not extraordinary:
-        return dx, dy, dz
-    ex = -q * dy
-    ey = q * dx - kappa * dz
-    ez = kappa * dy
-    inv_no2 = 1.0 / (n_o * n_o)
-    gamma = (1.0 / (n_e * n_e) - inv_no2) * (cx * ex + cy * ey + cz * ez)
-    return ex * inv_no2 + gamma * cx, ey * inv_no2 + gamma * cy, ez * inv_no2 + gamma * cz
+    return _field_from_d(q, kappa, dx, dy, dz, n_o, n_e, cx, cy, cz, extraordinary)
 
 @_jit()
 def unit(fx, fy, fz):
     size = np.sqrt(abs2(fx) + abs2(fy) + abs2(fz))
     return fx / size, fy / size, fz / size
+
+# interface's D → E step, compiled: one source for both paths.
+_field_from_d = _jit()(interface.field_from_d)
+
+# The expansion itself is linear4's, compiled: one source for both paths.
+_cofactor_solve = _jit()(linear4.cofactor_solve)
+
 
 @_jit()
 def solve4(a, b, equilibrate):
@@ -118,28 +117,9 @@ def solve4(a, b, equilibrate):
     a10, a11, a12, a13 = a[1, 0], a[1, 1], a[1, 2], a[1, 3]
     a20, a21, a22, a23 = a[2, 0], a[2, 1], a[2, 2], a[2, 3]
     a30, a31, a32, a33 = a[3, 0], a[3, 1], a[3, 2], a[3, 3]
-    s0 = a00 * a11 - a10 * a01
-    s1 = a00 * a12 - a10 * a02
-    s2 = a00 * a13 - a10 * a03
-    s3 = a01 * a12 - a11 * a02
-    s4 = a01 * a13 - a11 * a03
-    s5 = a02 * a13 - a12 * a03
-    c5 = a22 * a33 - a32 * a23
-    c4 = a21 * a33 - a31 * a23
-    c3 = a21 * a32 - a31 * a22
-    c2 = a20 * a33 - a30 * a23
-    c1 = a20 * a32 - a30 * a22
-    c0 = a20 * a31 - a30 * a21
-    det = s0 * c5 - s1 * c4 + s2 * c3 + s3 * c2 - s4 * c1 + s5 * c0
-    b0, b1, b2, b3 = b[0], b[1], b[2], b[3]
-    x0 = ((a11 * c5 - a12 * c4 + a13 * c3) * b0 + (-a01 * c5 + a02 * c4 - a03 * c3) * b1
-          + (a31 * s5 - a32 * s4 + a33 * s3) * b2 + (-a21 * s5 + a22 * s4 - a23 * s3) * b3)
-    x1 = ((-a10 * c5 + a12 * c2 - a13 * c1) * b0 + (a00 * c5 - a02 * c2 + a03 * c1) * b1
-          + (-a30 * s5 + a32 * s2 - a33 * s1) * b2 + (a20 * s5 - a22 * s2 + a23 * s1) * b3)
-    x2 = ((a10 * c4 - a11 * c2 + a13 * c0) * b0 + (-a00 * c4 + a01 * c2 - a03 * c0) * b1
-          + (a30 * s4 - a31 * s2 + a33 * s0) * b2 + (-a20 * s4 + a21 * s2 - a23 * s0) * b3)
-    x3 = ((-a10 * c3 + a11 * c1 - a12 * c0) * b0 + (a00 * c3 - a01 * c1 + a02 * c0) * b1
-          + (-a30 * s3 + a31 * s1 - a32 * s0) * b2 + (a20 * s3 - a21 * s1 + a22 * s0) * b3)
+    det, x0, x1, x2, x3 = _cofactor_solve(a00, a01, a02, a03, a10, a11, a12, a13,
+                                          a20, a21, a22, a23, a30, a31, a32, a33,
+                                          b[0], b[1], b[2], b[3])
     singular = not (magnitude(det) > 1e-14)
     # As the numpy path: multiply by 0 where singular (NaN inputs stay NaN).
     inv_det = 0.0 * det if singular else 1.0 / det

@@ -22,10 +22,10 @@ r_A', t_A' (backward → forward, → near medium). One round trip maps J → M 
 M = r_A' r_B, so the sum over bounces solves J = a a† + M J M† (a 4 × 4 linear system per ray).
 Transmitted power into far mode m: (t_B J t_B†)_mm; reflected: |r_A|²_m (direct) +
 (t_A' r_B J r_B† t_A'†)_mm (this coherency-matrix form of the series is our own; it reduces
-to the scalar series above when nothing mixes s and p). Mode conversion s ↔ p at anisotropic faces is included; only the
-interference between different bounces is dropped. Energy is conserved exactly (each face is
-lossless and the layer is not absorbing). For isotropic media M is diagonal and the result is
-T₁T₂/(1 − R₁R₂) per s and p.
+to the scalar series above when nothing mixes s and p). Mode conversion s ↔ p at anisotropic
+faces is included; only the interference between different bounces is dropped. Energy is
+conserved exactly (each face is lossless and the layer is not absorbing). For isotropic media M
+is diagonal and the result is T₁T₂/(1 − R₁R₂) per s and p.
 
 Approximation in the fields: the tracer carries one pure field per beam. Each outgoing mode
 gets the incoherently summed power with the phase (and, once recombined in an isotropic medium,

@@ -174,11 +174,21 @@ def _local_fields(q, kappa, n_o, n_e, cx, cy, cz, mode):
         dx = np.where(degenerate, 0.0, dx)
         dy = np.where(degenerate, 1.0, dy)
         dz = np.where(degenerate, 0.0, dz)
+    return field_from_d(q, kappa, dx, dy, dz, n_o, n_e, cx, cy, cz, mode == "e")
+
+
+def field_from_d(q, kappa, dx, dy, dz, n_o, n_e, cx, cy, cz, extraordinary):
+    """E of the wave k = (κ, 0, q) from its o-wave displacement D_o = (dx, dy, dz), unnormalised.
+
+    Returns D_o itself (freed of rounding along k) for the o wave, or E = ε⁻¹ (k × D_o) for the
+    e wave. Plain arithmetic only, so the numpy path here and the numba kernel
+    (:mod:`.compiled_interface`, which compiles this function) share it.
+    """
     # D ⟂ k holds analytically; rounding leaves a component along k of relative size
     # ~1e-16/|k × ĉ| near the optic axis, removed here (bilinear product: k may be complex).
     along = (kappa * dx + q * dz) / (kappa * kappa + q * q)
     dx, dz = dx - along * kappa, dz - along * q
-    if mode == "o":
+    if not extraordinary:
         return dx, dy, dz
     ex = -q * dy
     ey = q * dx - kappa * dz

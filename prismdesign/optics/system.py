@@ -7,8 +7,8 @@ from .biaxial import BIAXIAL_MODE_LETTERS, BiaxialIndices, check_crystal_axes
 from .thin_layer import ThinLayer
 from .vectors import as_unit_vectors, cross, dot
 
-__all__ = ["FixedIndices", "FixedPrincipalIndices", "Medium", "CircularAperture", "RectangularAperture", "Surface",
-           "SequentialSystem", "optic_axis_from_angles"]
+__all__ = ["FixedIndices", "FixedPrincipalIndices", "Medium", "CircularAperture",
+           "RectangularAperture", "Surface", "SequentialSystem", "optic_axis_from_angles"]
 
 
 @dataclass(frozen=True)
@@ -154,7 +154,8 @@ class Medium:
 
     @property
     def is_crystal(self):
-        """True for a birefringent medium (uniaxial material with an optic axis)."""
+        """True for a birefringent medium (uniaxial material with an optic axis, or biaxial
+        material with crystal axes)."""
         if self.crystal_axes is not None:
             return True
         return self.optic_axis is not None and getattr(self.material, "kind", "uniaxial") != "isotropic"
@@ -166,7 +167,8 @@ class Medium:
         return BIAXIAL_MODE_LETTERS if self.crystal_axes is not None else "oe"
 
     def indices(self, wavelength_um, temperature_c=None):
-        """(n_o, n_e) at the given wavelengths (µm); equal for isotropic media.
+        """(n_o, n_e) at the given wavelengths (µm), equal for isotropic media; for a biaxial
+        medium a :class:`~prismdesign.optics.biaxial.BiaxialIndices` (n_x, n_y, n_z, its axes).
 
         `temperature_c` (°C, broadcasting against the wavelengths) overrides the medium's own;
         the tracer passes per-sample temperatures flattened like the rays.
