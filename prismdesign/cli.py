@@ -1,5 +1,5 @@
 """Command line: ``prismdesign materials | index | demo | design | tolerance | fit-built |
-analyse | report``.
+analyse | report | sheet``.
 
 A thin shell over the public API: it parses arguments, calls the library and formats text.
 Errors from the library become one line on stderr and exit code 2; warnings (for example a

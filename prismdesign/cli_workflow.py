@@ -2,8 +2,8 @@
 
 Thin shells over :mod:`prismdesign.design.design_file` and the output layer: ``analyse`` prints
 a design file's table over its requirement's band (or JSON), writes it as CSV and its figures
-into a folder; ``report`` writes one self-contained HTML report. Each prints the laser caution
-once.
+into a folder; ``report`` writes one self-contained HTML report; ``sheet`` draws the
+fabrication sheet (SVG or PDF). Each prints the laser caution once.
 """
 from __future__ import annotations
 
