@@ -158,15 +158,14 @@ def _design_file(args):
 
 def _build(args, aperture_mm=None):
     design = _design_file(args)
+    options = (("--type", args.prism_type), ("--crystal", args.crystal), ("--size", args.size))
     if design is not None:
-        given = [o for o, v in (("--type", args.prism_type), ("--crystal", args.crystal),
-                                ("--size", args.size)) if v is not None]
+        given = [o for o, v in options if v is not None]
         if given:
             raise ValueError(f"--design {args.design}: the file holds the prism; leave out "
                              f"{', '.join(given)}")
         return design.build()
-    missing = [o for o, v in (("--type", args.prism_type), ("--crystal", args.crystal),
-                              ("--size", args.size)) if v is None]
+    missing = [o for o, v in options if v is None]
     if missing:
         raise ValueError(f"give --design FILE, or the prism as --type, --crystal and --size "
                          f"(missing {', '.join(missing)})")
