@@ -1,5 +1,5 @@
 """Command line: ``prismdesign materials | index | demo | design | tolerance | fit-built |
-analyse | report``.
+analyse | report | sheet``.
 
 A thin shell over the public API: it parses arguments, calls the library and formats text.
 Errors from the library become one line on stderr and exit code 2; warnings (for example a
@@ -15,6 +15,7 @@ from pathlib import Path
 import numpy as np
 
 from . import load_material, material, material_datasets, materials
+from .cli_files import output_file
 
 REFERENCE_WAVELENGTH_UM = 0.6328   # HeNe line, the customary wavelength for quoting indices
 FIGURE_SUFFIXES = (".png", ".pdf", ".svg")
@@ -23,16 +24,7 @@ MAX_POINTS = 10000                 # a table longer than this is a typo, not a r
 
 def _figure_path(text: str) -> Path:
     """Check a --plot file name before any work is done, so a typo costs nothing."""
-    path = Path(text)
-    if path.suffix.lower() not in FIGURE_SUFFIXES:
-        raise ValueError(f"--plot {text}: need a file name ending in "
-                         f"{', '.join(FIGURE_SUFFIXES)}")
-    if path.is_dir():
-        raise ValueError(f"--plot {text}: is a folder; need a file name ending in "
-                         f"{', '.join(FIGURE_SUFFIXES)}")
-    if not path.parent.is_dir():
-        raise ValueError(f"--plot {text}: the folder {path.parent} does not exist")
-    return path
+    return output_file(text, FIGURE_SUFFIXES, "--plot")
 
 
 def _materials_command(args) -> str:

@@ -7,11 +7,9 @@ table (or JSON) followed once by the laser caution.
 from __future__ import annotations
 
 import argparse
-import csv
-import io
 import sys
-from pathlib import Path
 
+from .cli_files import output_file, write_csv
 from .design import FAMILIES, BAND_NORMS, load_requirement, requirement_from_mapping, search
 from .output.demo_materials import LASER_CAUTION
 
@@ -143,28 +141,23 @@ def _progress(done, total, label):
 
 
 def _write_csv(ranking, path):
-    """The ranked rows as CSV, written to a temporary file and renamed (never half-written)."""
-    path = Path(path)
-    if not path.parent.is_dir():
-        raise ValueError(f"--csv {path}: the folder {path.parent} does not exist")
-    buffer = io.StringIO()
-    writer = csv.writer(buffer)
-    writer.writerow(["rank", "prism_type", "crystal", "parameters", "meets", "length_mm",
-                     "transmission", "leakage", "limited_by", "misses", "evaluations"])
-    for row in ranking.rows():
-        writer.writerow([row["rank"], row["prism_type"], row["crystal"],
-                         "; ".join(f"{k}={v}" for k, v in row["parameters"].items()),
-                         row["meets"], row["length_mm"], row["transmission"], row["leakage"],
-                         row["active"], " | ".join(row["failing"]), row["evaluations"]])
-    temporary = path.with_name(path.name + ".tmp")
-    temporary.write_text(buffer.getvalue(), encoding="utf-8")
-    temporary.replace(path)
+    """The ranked rows as CSV, written atomically (never half-written)."""
+    write_csv(path, ["rank", "prism_type", "crystal", "parameters", "meets", "length_mm",
+                     "transmission", "leakage", "limited_by", "misses", "evaluations"],
+              ([row["rank"], row["prism_type"], row["crystal"],
+                "; ".join(f"{k}={v}" for k, v in row["parameters"].items()),
+                row["meets"], row["length_mm"], row["transmission"], row["leakage"],
+                row["active"], " | ".join(row["failing"]), row["evaluations"]]
+               for row in ranking.rows()))
 
 
 def _design_command(args) -> str:
     requirement = _requirement(args)
-    if args.save and not Path(args.save).parent.is_dir():
-        raise ValueError(f"--save {args.save}: the folder {Path(args.save).parent} does not exist")
+    # Checked before the search, so a mistyped file name costs nothing.
+    if args.csv:
+        output_file(args.csv, None, "--csv")
+    if args.save:
+        output_file(args.save, None, "--save")
     ranking = search(requirement, progress=_progress)
     if args.csv:
         _write_csv(ranking, args.csv)

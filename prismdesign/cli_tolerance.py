@@ -8,8 +8,6 @@ shells over :mod:`prismdesign.design`; they print text (or JSON) and the laser c
 from __future__ import annotations
 
 import argparse
-import csv
-import io
 import json
 from pathlib import Path
 
@@ -17,6 +15,7 @@ import numpy as np
 
 from . import prisms
 from .cli_design import _requirement, add_requirement_options
+from .cli_files import output_file, output_folder, write_csv
 from .design.perturbation import parameter
 from .design import (DISTRIBUTIONS, Tolerance, ToleranceSet, allocate, fit_as_built,
                      monte_carlo, read_measurements, sensitivities)
@@ -159,15 +158,14 @@ def _design_file(args):
 
 def _build(args, aperture_mm=None):
     design = _design_file(args)
+    options = (("--type", args.prism_type), ("--crystal", args.crystal), ("--size", args.size))
     if design is not None:
-        given = [o for o, v in (("--type", args.prism_type), ("--crystal", args.crystal),
-                                ("--size", args.size)) if v is not None]
+        given = [o for o, v in options if v is not None]
         if given:
             raise ValueError(f"--design {args.design}: the file holds the prism; leave out "
                              f"{', '.join(given)}")
         return design.build()
-    missing = [o for o, v in (("--type", args.prism_type), ("--crystal", args.crystal),
-                              ("--size", args.size)) if v is None]
+    missing = [o for o, v in options if v is None]
     if missing:
         raise ValueError(f"give --design FILE, or the prism as --type, --crystal and --size "
                          f"(missing {', '.join(missing)})")
@@ -201,18 +199,14 @@ def _tolerances(raw):
     return ToleranceSet(tuple(items))
 
 
-def _atomic_write(path, text):
-    path = Path(path)
-    if not path.parent.is_dir():
-        raise ValueError(f"{path}: the folder {path.parent} does not exist")
-    temporary = path.with_name(path.name + ".tmp")
-    temporary.write_text(text, encoding="utf-8")
-    temporary.replace(path)
-
-
 def _tolerance_command(args) -> str:
     if args.samples < 1:
         raise ValueError(f"--samples must be >= 1, got {args.samples}")
+    # Output names are checked before the (long) Monte Carlo, so a typo costs nothing.
+    if args.csv:
+        output_file(args.csv, None, "--csv")
+    if args.plots:
+        output_folder(args.plots, "--plots")
     design = _design_file(args)
     if design is not None and design.requirement is not None and args.band is None \
             and args.lines is None:
@@ -242,11 +236,7 @@ def _tolerance_command(args) -> str:
             for t, a in zip(tolerances.items,
                             allocation.allocated.items if allocation else tolerances.items)]
     if args.csv:
-        buffer = io.StringIO()
-        writer = csv.DictWriter(buffer, fieldnames=list(rows[0]))
-        writer.writeheader()
-        writer.writerows(rows)
-        _atomic_write(args.csv, buffer.getvalue())
+        write_csv(args.csv, list(rows[0]), (row.values() for row in rows))
     if args.plots:
         from .output.tolerance_plots import plot_histogram, plot_tornado
         folder = Path(args.plots)
@@ -297,16 +287,14 @@ def _tolerance_command(args) -> str:
 
 
 def _fit_command(args) -> str:
+    if args.csv:
+        output_file(args.csv, None, "--csv")
     prism = _build(args)
     data = read_measurements(args.measurements)
     fit = fit_as_built(prism, data, args.fit)
     if args.csv:
         table = fit.table()
-        buffer = io.StringIO()
-        writer = csv.DictWriter(buffer, fieldnames=list(table[0]))
-        writer.writeheader()
-        writer.writerows(table)
-        _atomic_write(args.csv, buffer.getvalue())
+        write_csv(args.csv, list(table[0]), (row.values() for row in table))
     if args.json:
         return _json_dumps(dict(parameters=fit.table(), reduced_chi_square=fit.reduced_chi_square,
                                 correlation=fit.correlation, residuals=fit.residuals,

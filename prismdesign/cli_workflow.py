@@ -2,17 +2,16 @@
 
 Thin shells over :mod:`prismdesign.design.design_file` and the output layer: ``analyse`` prints
 a design file's table over its requirement's band (or JSON), writes it as CSV and its figures
-into a folder; ``report`` writes one self-contained HTML report. Each prints the laser caution
-once.
+into a folder; ``report`` writes one self-contained HTML report; ``sheet`` draws the
+fabrication sheet (SVG or PDF). Each prints the laser caution once.
 """
 from __future__ import annotations
 
 import argparse
-import csv
-import io
 import json
 from pathlib import Path
 
+from .cli_files import output_file, output_folder, write_csv
 from .design.design_file import load_design
 from .output.demo_materials import LASER_CAUTION
 
@@ -33,18 +32,6 @@ SHEET_EXAMPLES = """examples:
   prismdesign sheet examples/imager_split.design.toml --out sheet.svg
   prismdesign sheet my.design.toml --out sheet.pdf
 """
-
-
-def _out_file(text, suffixes, option="--out"):
-    """Check an output file name before any work is done."""
-    path = Path(text)
-    if path.suffix.lower() not in suffixes:
-        raise ValueError(f"{option} {text}: need a file name ending in {', '.join(suffixes)}")
-    if path.is_dir():
-        raise ValueError(f"{option} {text}: is a folder; need a file name")
-    if not path.parent.is_dir():
-        raise ValueError(f"{option} {text}: the folder {path.parent} does not exist")
-    return path
 
 
 def add_workflow_parsers(sub):
@@ -87,26 +74,22 @@ def add_workflow_parsers(sub):
 
 def _analyse_command(args) -> str:
     from .output.design_analysis import TABLE_COLUMNS, analyse_design, write_analysis_figures
-    from .output.files import write_text
     from .output.tables import format_table
 
     if args.csv:
-        _out_file(args.csv, (".csv",), "--csv")
+        output_file(args.csv, (".csv",), "--csv")
+    if args.figures:
+        output_folder(args.figures, "--figures")
     design = load_design(args.design_file)
     analysis = analyse_design(design)
     written = []
     if args.csv:
-        buffer = io.StringIO()
-        writer = csv.writer(buffer)
-        writer.writerow([key for key, _ in TABLE_COLUMNS])
-        for row in analysis.rows:
-            writer.writerow(["" if row[k] is None else repr(row[k]) for k, _ in TABLE_COLUMNS])
-        written.append(write_text(args.csv, buffer.getvalue()))
+        written.append(write_csv(
+            args.csv, [key for key, _ in TABLE_COLUMNS],
+            (["" if row[k] is None else repr(row[k]) for k, _ in TABLE_COLUMNS]
+             for row in analysis.rows)))
     if args.figures:
-        folder = Path(args.figures)
-        if folder.exists() and not folder.is_dir():
-            raise ValueError(f"--figures {args.figures}: is a file; need a folder")
-        written += write_analysis_figures(analysis, folder)
+        written += write_analysis_figures(analysis, Path(args.figures))
     if args.json:
         data = analysis.to_dict()
         data.update(design_file=str(args.design_file), title=design.title,
@@ -129,7 +112,7 @@ def _analyse_command(args) -> str:
 def _report_command(args) -> str:
     from .output.design_report import write_report
 
-    out = _out_file(args.out, (".html", ".htm"))
+    out = output_file(args.out, (".html", ".htm"), "--out")
     if args.samples < 1:
         raise ValueError(f"--samples must be >= 1, got {args.samples}")
     design = load_design(args.design_file)
@@ -141,7 +124,7 @@ def _report_command(args) -> str:
 def _sheet_command(args) -> str:
     from .output.fabrication_sheet import write_fabrication_sheet
 
-    out = _out_file(args.out, (".svg", ".pdf"))
+    out = output_file(args.out, (".svg", ".pdf"), "--out")
     design = load_design(args.design_file)
     path = write_fabrication_sheet(design.build(), out, tolerances=design.tolerances,
                                    notes=design.notes, requirement=design.requirement)

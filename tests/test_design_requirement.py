@@ -101,6 +101,20 @@ def test_design_verb_json_and_csv(tmp_path, capsys):
     assert csv_path.read_text().startswith("rank,prism_type")
 
 
+def test_design_verb_checks_its_output_names_before_searching(tmp_path, capsys, monkeypatch):
+    import prismdesign.cli_design as verb
+
+    def never(*args, **kwargs):
+        raise AssertionError("the search ran before the output names were checked")
+
+    monkeypatch.setattr(verb, "search", never)
+    base = ["design", "--lines", "1.55", "--offset-mm", "1.0", "--crystals", "calcite"]
+    assert main(base + ["--csv", str(tmp_path / "nowhere" / "r.csv")]) == 2
+    assert "does not exist" in capsys.readouterr().err
+    assert main(base + ["--save", str(tmp_path)]) == 2
+    assert "is a folder" in capsys.readouterr().err
+
+
 def test_design_verb_reads_a_file_and_options_override(tmp_path, capsys):
     path = tmp_path / "need.toml"
     path.write_text('schema = 1\n[requirement]\nlines_um = [0.6328]\nsplit_deg = 5.0\n'

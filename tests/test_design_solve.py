@@ -347,3 +347,31 @@ def test_two_crystal_split_held_flat_over_temperature():
     first, second = np.rad2deg(np.arctan(t))
     assert pair.parameters["first_wedge_deg"] == pytest.approx(first, abs=0.05)
     assert pair.parameters["second_wedge_deg"] == pytest.approx(second, abs=0.05)
+
+
+def test_clearance_matches_the_separation_analysis_and_the_batch_path():
+    # The design layer's clearance (separation minus both 1/e² radii on the plane) uses the same
+    # Gaussian-beam rule as analysis.separation, which is checked against the closed form
+    # w(z) = w0 √(1 + (z/z_R)²), z_R = π w0² / (M² λ) (Siegman, "Lasers", 1986, §17.1) in
+    # test_analysis_separation; here both design paths (single prism, batch of samples) must
+    # give that analysis' numbers for the same prism, plane and beam.
+    import prismdesign as pd
+    from prismdesign.design.batch_merit import sample_figures
+    from prismdesign.design.merit import figures
+
+    prism = pd.prisms.wollaston("calcite", 15.0)
+    lam = np.array([0.532, 0.8])
+    requirement = design.Requirement(lines_um=lam.tolist(), separation_mm=50.0,
+                                     distance_mm=200.0, beam_diameter_mm=1.0, m_squared=1.3)
+    figs = figures(prism, requirement)
+    ref = pd.analysis.separation(prism, lam, 200.0, waist_mm=0.5, m_squared=1.3,
+                                 main_labels=figs.main_labels)
+    radii = sum(ref.beam_radius_mm[label] for label in figs.main_labels)
+    expected = ref.separation_mm - radii
+    assert np.all(np.isfinite(expected)) and np.all(radii > 1.0)   # far field: radii matter
+    np.testing.assert_allclose(figs.separation_mm[:, 0], ref.separation_mm, rtol=1e-12)
+    np.testing.assert_allclose(figs.clearance_mm[:, 0], expected, rtol=1e-12, atol=1e-12)
+    batch, _ = sample_figures(prism, requirement, {"face1_angle_deg": np.zeros(3)},
+                              main_labels=figs.main_labels)
+    np.testing.assert_allclose(batch.clearance_mm[:, :, 0], np.broadcast_to(expected, (3, 2)),
+                               rtol=1e-10, atol=1e-10)

@@ -22,6 +22,21 @@ def test_tolerance_text_json_and_csv(capsys, tmp_path):
         "face1_angle_deg"
 
 
+def test_output_names_are_checked_before_the_monte_carlo(capsys, tmp_path, monkeypatch):
+    import prismdesign.cli_tolerance as verb
+
+    def never(*args, **kwargs):
+        raise AssertionError("the Monte Carlo ran before the output names were checked")
+
+    monkeypatch.setattr(verb, "monte_carlo", never)
+    monkeypatch.setattr(verb, "sensitivities", never)
+    assert main(BASE + ["--csv", str(tmp_path / "nowhere" / "t.csv")]) == 2
+    assert "does not exist" in capsys.readouterr().err
+    (tmp_path / "plain").write_text("x", encoding="utf-8")
+    assert main(BASE + ["--plots", str(tmp_path / "plain")]) == 2
+    assert "need a folder" in capsys.readouterr().err
+
+
 def test_tolerance_bad_input_exits_2(capsys):
     assert main(PRISM + ["--error", "face7_angle_deg", "uniform", "0.05"]) == 2
     err = capsys.readouterr().err
@@ -29,7 +44,8 @@ def test_tolerance_bad_input_exits_2(capsys):
     assert main(PRISM + ["--error", "face1_angle_deg", "wide", "0.05"]) == 2
 
 
-def test_fit_built_from_csv(capsys, tmp_path):
+def _bench_csv(tmp_path):
+    """Splits of a Wollaston built with face 1 off by 0.04 deg, traced, as a bench CSV."""
     import prismdesign as pd
     from prismdesign.design import apply_errors
     prism = pd.prisms.wollaston("calcite", 15.0)
@@ -37,8 +53,14 @@ def test_fit_built_from_csv(capsys, tmp_path):
     lam = np.array([0.45, 0.6328, 0.98])
     split = pd.analysis.split(built, lam).split_deg
     path = tmp_path / "bench.csv"
-    path.write_text("wavelength_um,split_deg\n" + "".join(f"{float(l)!r},{float(s)!r}\n" for l, s in
-                                                        zip(lam, split)), encoding="utf-8")
+    path.write_text("wavelength_um,split_deg\n" + "".join(f"{float(l)!r},{float(s)!r}\n"
+                                                        for l, s in zip(lam, split)),
+                    encoding="utf-8")
+    return path
+
+
+def test_fit_built_from_csv(capsys, tmp_path):
+    path = _bench_csv(tmp_path)
     code = main(["fit-built", str(path), "--type", "wollaston", "--crystal", "calcite",
                  "--size", "15", "--fit", "face1_angle_deg", "--json"])
     assert code == 0
@@ -55,15 +77,7 @@ def _refuse(token):
 def test_json_has_no_nan_and_names_why_a_figure_is_null(capsys, tmp_path):
     # RFC 8259 (The JSON Data Interchange Format, 2017, §6) has no NaN or Infinity: undefined
     # figures are written as null and listed with a reason.
-    import prismdesign as pd
-    from prismdesign.design import apply_errors
-    prism = pd.prisms.wollaston("calcite", 15.0)
-    built, _ = apply_errors(prism, {"face1_angle_deg": 0.04})
-    lam = np.array([0.45, 0.6328, 0.98])
-    split = pd.analysis.split(built, lam).split_deg
-    path = tmp_path / "bench.csv"
-    path.write_text("wavelength_um,split_deg\n" + "".join(f"{float(l)!r},{float(s)!r}\n" for l, s in
-                                                        zip(lam, split)), encoding="utf-8")
+    path = _bench_csv(tmp_path)
     # The first wedge's axis polar angle moves no split to first order: its uncertainty and
     # correlations are undefined (see test_design_as_built.test_undetermined_parameter_is_named).
     code = main(["fit-built", str(path), "--type", "wollaston", "--crystal", "calcite",

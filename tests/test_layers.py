@@ -17,13 +17,15 @@ ALLOWED = {
     "design": {"_display", "materials", "optics", "prisms", "analysis"},
     "output": {"_display", "materials", "optics", "prisms", "analysis", "design", "__init__"},
     "cli": {"_display", "materials", "optics", "prisms", "analysis", "design", "output",
-            "__init__", "cli_design", "cli_tolerance", "cli_workflow"},
+            "__init__", "cli_design", "cli_tolerance", "cli_workflow", "cli_files"},
+    # Output-file checks shared by the verbs: writes through the output layer only.
+    "cli_files": {"output"},
     "cli_design": {"_display", "materials", "optics", "prisms", "analysis", "design", "output",
-                   "__init__"},
+                   "__init__", "cli_files"},
     "cli_workflow": {"_display", "materials", "optics", "prisms", "analysis", "design", "output",
-                     "__init__"},
+                     "__init__", "cli_files"},
     "cli_tolerance": {"_display", "materials", "optics", "prisms", "analysis", "design",
-                      "output", "__init__", "cli_design"},
+                      "output", "__init__", "cli_design", "cli_files"},
 }
 
 

@@ -23,9 +23,9 @@ import numpy as np
 
 from ..analysis._common import strip_pair
 from ..analysis.interference import exit_wave_paths
-from ..analysis.separation import _radius_mm
 from ..optics.vectors import cross, dot, norm, normalize
-from .merit import LOST_FLAGS, POWER_FLOOR, field_directions_deg, figures
+from .merit import (LOST_FLAGS, POWER_FLOOR, beam_radius_mm, field_directions_deg, figures,
+                    on_plane_mm)
 from .perturbation import apply_errors
 from ..analysis.beam_groups import trace_output_beams
 
@@ -145,14 +145,15 @@ def trace_figures(prism, wavelength_um, in_plane_deg, out_of_plane_deg, main_lab
             gap = bb.exit_position_mm - ba.exit_position_mm
             u = normalize(mid)
             offset = np.where(both, norm(gap - dot(gap, u)[..., None] * u), nan)
-            spots = [_on_plane(beam, plane_z_mm) for beam in (ba, bb)]
+            spots = [on_plane_mm(beam, plane_z_mm) for beam in (ba, bb)]
             point = 0.5 * (spots[0] + spots[1])
             opd = np.where(both, 1e3 * (_phase_at(ba, point) - _phase_at(bb, point)), nan)
             if requirement is not None and requirement.distance_mm is not None:
-                far = [_on_plane(beam, plane_z_mm + requirement.distance_mm) for beam in (ba, bb)]
+                far = [on_plane_mm(beam, plane_z_mm + requirement.distance_mm)
+                       for beam in (ba, bb)]
                 separation = np.where(both, norm(far[1] - far[0]), nan)
                 if requirement.beam_diameter_mm is not None:
-                    radii = [_radius_on_plane(beam, spot, requirement)
+                    radii = [beam_radius_mm(beam, spot, requirement)
                              for beam, spot in zip((ba, bb), far)]
                     clearance = np.where(both, separation - radii[0] - radii[1], nan)
         else:
@@ -187,24 +188,9 @@ def _undeviated_polarisation(main, deviation, pair_power, present):
     return np.where(alive, np.where(px >= py, "in_plane", "across"), "")
 
 
-def _on_plane(beam, plane_z_mm):
-    d, r = beam.exit_direction, beam.exit_position_mm
-    return r + ((plane_z_mm - r[..., 2]) / d[..., 2])[..., None] * d
-
-
 def _phase_at(beam, points_mm):
     exit_mm, k, path = exit_wave_paths(beam)
     return path + dot(k, points_mm - exit_mm)
-
-
-def _radius_on_plane(beam, spot, requirement):
-    """1/e² radius (mm) on the plane, waist at the entrance; the path inside counts as its
-    reduced length Σ L/n (as :func:`prismdesign.design.merit.figures`)."""
-    steps = np.diff(beam.positions_mm, axis=0)
-    reduced = (norm(steps)[1:] / beam.indices[1:-1]).sum(axis=0) if len(steps) > 1 else 0.0
-    reduced = reduced + norm(spot - beam.exit_position_mm)
-    return _radius_mm(0.5 * requirement.beam_diameter_mm, beam.wavelength_um, reduced,
-                      requirement.m_squared)
 
 
 def face_extent_mm(prism):

@@ -19,7 +19,7 @@ import numpy as np
 
 from ..analysis._common import (LOST_FLAGS, LOST_POWER_FLOOR, describe_lost, lost_codes,
                                 rank_beams, strip_pair)
-from ..analysis.separation import _radius_mm
+from ..analysis.separation import _inside_reduced_distance_mm, _radius_mm
 from ..optics.vectors import cross, dot, norm, normalize
 from ..analysis.beam_groups import trace_output_beams
 
@@ -164,11 +164,10 @@ def figures(prism, requirement, *, main_count=None):
         offset = np.where(both, norm(across), nan)
         if requirement.distance_mm is not None:
             plane_z = prism.exit_z_mm + requirement.distance_mm
-            spots = [p + d * ((plane_z - p[..., 2]) / d[..., 2])[..., None]
-                     for p, d in ((pa, da), (pb, db))]
+            spots = [on_plane_mm(beams[label], plane_z) for label in main]
             separation = np.where(both, norm(spots[1] - spots[0]), nan)
             if requirement.beam_diameter_mm is not None:
-                radii = [_beam_radius(beams[label], requirement, lam, spot)
+                radii = [beam_radius_mm(beams[label], spot, requirement)
                          for label, spot in zip(main, spots)]
                 clearance = np.where(both, separation - radii[0] - radii[1], nan)
         dev = {label: np.abs(in_dev[label][:, 0] - in_plane[0]) for label in main}
@@ -182,17 +181,23 @@ def figures(prism, requirement, *, main_count=None):
                    undeviated_polarisation=undeviated_pol, lost=lost, length_mm=length)
 
 
-def _beam_radius(beam, requirement, lam, spot):
-    """1/e² radius (mm) on the observation plane of a beam with its waist at the entrance.
+def on_plane_mm(beam, plane_z_mm):
+    """Where a beam's exit rays cross the plane z = `plane_z_mm` (mm, shape (..., 3))."""
+    d, r = beam.exit_direction, beam.exit_position_mm
+    return r + ((plane_z_mm - r[..., 2]) / d[..., 2])[..., None] * d
 
-    The path inside the prism counts as its reduced length Σ L/n (slab ABCD propagation; the
-    same approximation as :mod:`prismdesign.analysis.separation`).
+
+def beam_radius_mm(beam, spot_mm, requirement):
+    """1/e² radius (mm) at `spot_mm` of a beam with its waist at the entrance.
+
+    Every segment counts as its reduced length L/n, the one after the prism too (in the exit
+    medium, air: n ≈ 1.0003); slab ABCD propagation, the same rule and code as
+    :func:`prismdesign.analysis.separation`.
     """
-    steps = np.diff(beam.positions_mm, axis=0)
-    reduced = (norm(steps)[1:] / beam.indices[1:-1]).sum(axis=0) if len(steps) > 1 else 0.0
-    reduced = reduced + norm(spot - beam.exit_position_mm)
-    waist = 0.5 * requirement.beam_diameter_mm
-    return _radius_mm(waist, lam[:, None], reduced, requirement.m_squared)
+    reduced = (_inside_reduced_distance_mm(beam)
+               + norm(spot_mm - beam.exit_position_mm) / beam.indices[-1])
+    return _radius_mm(0.5 * requirement.beam_diameter_mm, beam.wavelength_um, reduced,
+                      requirement.m_squared)
 
 
 @dataclass(frozen=True)

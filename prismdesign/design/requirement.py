@@ -78,6 +78,14 @@ def _pair(name, value, *, low=0.0):
     return (a, b)
 
 
+def _one_of(name, value, allowed, *, optional=False):
+    """Check that `value` is one of the words `allowed` (or None when `optional`)."""
+    if value in allowed or (optional and value is None):
+        return
+    raise ValueError(f"{name} must be one of {', '.join(allowed)}"
+                     f"{' or None' if optional else ''}, got {shown(value)}")
+
+
 def _names(name, value):
     """A tuple of non-empty strings, or None."""
     if value is None:
@@ -260,16 +268,10 @@ class Requirement:
             if not isinstance(getattr(self, name), (bool, np.bool_)):
                 raise ValueError(f"{name} must be true or false, got {shown(getattr(self, name))}")
             put(self, name, bool(getattr(self, name)))
-        if self.undeviated_polarisation not in (None,) + UNDEVIATED_POLARISATIONS:
-            raise ValueError(f"undeviated_polarisation must be one of "
-                             f"{', '.join(UNDEVIATED_POLARISATIONS)} or None, got "
-                             f"{shown(self.undeviated_polarisation)}")
-        if self.field_goal not in FIELD_GOALS:
-            raise ValueError(f"field_goal must be one of {', '.join(FIELD_GOALS)}, got "
-                             f"{shown(self.field_goal)}")
-        if self.band_norm not in BAND_NORMS:
-            raise ValueError(f"band_norm must be one of {', '.join(BAND_NORMS)}, got "
-                             f"{shown(self.band_norm)}")
+        _one_of("undeviated_polarisation", self.undeviated_polarisation,
+                UNDEVIATED_POLARISATIONS, optional=True)
+        _one_of("field_goal", self.field_goal, FIELD_GOALS)
+        _one_of("band_norm", self.band_norm, BAND_NORMS)
         put(self, "crystals", _names("crystals", self.crystals))
         put(self, "prism_types", _names("prism_types", self.prism_types))
         self._check_target()

@@ -220,11 +220,7 @@ def sensitivities(prism, requirement, parameters=None, *, steps=None, field_edge
     if not np.all(np.isfinite(h) & (h > 0)):
         raise ValueError(f"steps must be positive numbers, got {shown(steps)}")
     count = len(params)
-    errors = {}
-    for k, p in enumerate(params):
-        column = np.zeros(2 * count + 1)
-        column[2 * k], column[2 * k + 1] = h[k], -h[k]
-        errors[p.name] = column
+    errors = _stepped_errors(params, h, nominal=True)
     main = nominal_figures(prism, requirement).main_labels
     with warnings.catch_warnings():
         # A step of 0.01 °C below a data temperature at the edge of the dn/dT range is not an
@@ -266,6 +262,16 @@ def sensitivities(prism, requirement, parameters=None, *, steps=None, field_edge
                          tuple(notes))
 
 
+def _stepped_errors(params, h, nominal=False):
+    """Errors of the 2P stepped prisms (+h, -h of each parameter in turn, samples 2k and
+    2k + 1), plus the unperturbed prism as the last sample when `nominal`."""
+    count = len(params)
+    columns = np.zeros((count, 2 * count + int(nominal)))
+    k = np.arange(count)
+    columns[k, 2 * k], columns[k, 2 * k + 1] = h, -h
+    return {p.name: columns[i] for i, p in enumerate(params)}
+
+
 #: Half-width (degrees) of the bracket around each nominal field edge in which the edges of
 #: the stepped prisms are sought: the default steps move an edge by ~1e-3 degrees per unit of
 #: sensitivity, far inside it.
@@ -292,11 +298,7 @@ def _field_edge_differences(prism, requirement, params, h, tolerance_deg=1e-10):
     base = np.asarray(fov.half_angles_deg["combined"], dtype=float)          # (n, 4)
     usable = ~np.asarray(fov.open_ended["combined"]) & (base > 0)
     count = len(params)
-    errors = {}
-    for k, p in enumerate(params):
-        column = np.zeros(2 * count)
-        column[2 * k], column[2 * k + 1] = h[k], -h[k]
-        errors[p.name] = column
+    errors = _stepped_errors(params, h)
     batch, inputs = apply_errors(prism, errors, ray_ndim=2)                  # samples (2P, 1, 1)
     azimuth = np.deg2rad([a for _, a in DIRECTIONS])
     wavelength = lam[:, None] + inputs.wavelength_um                         # (2P, n, 1)

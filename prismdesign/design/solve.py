@@ -201,7 +201,7 @@ def _unreachable(model, grid, g, norm, target):
                 value = _reduce(model.target([mid]), "minimax" if norm == "rms" else norm, target)
                 lo, hi = (mid, hi) if np.isfinite(value) else (lo, mid)
                 if np.isfinite(value):
-                    reached, best_x = value + target, mid
+                    reached = value + target
             _, figs = model.figures([hi])
             why = "a beam is lost"
             if figs is not None and figs.main_labels:
