@@ -233,7 +233,7 @@ def test_warns_outside_the_dn_dt_range():
     ({"temperature_c": [20.0]}, "at least two different"),
     ({"temperature_c": [20.0, 20.0]}, "at least two different"),
     ({"temperature_c": [20.0, -300.0]}, "above -273.15"),
-    ({"temperature_c": "hot"}, "must be numbers"),
+    ({"temperature_c": "hot"}, "must be a temperature in °C"),
     ({"temperature_c": [20.0, 30.0], "piece": 2}, "piece must be a piece index from 0 to 1"),
     ({"temperature_c": [20.0, 30.0], "wavelength_um": [-1.0]}, "wavelength_um"),
 ])
