@@ -242,6 +242,18 @@ def test_library_rejects_name_file_mismatch_and_duplicates(tmp_path):
         MaterialLibrary(tmp_path).names()
 
 
+def test_default_dataset_is_the_widest_band_then_the_earlier_name(tmp_path):
+    # The documented rule of MaterialLibrary: widest band of data; equal widths, earlier name.
+    write(tmp_path, dict(CALCITE, dataset="b-second", validity_um=[0.5, 1.5]),
+          name="calcite_test.b-second")
+    write(tmp_path, dict(CALCITE, dataset="a-first", validity_um=[0.25, 1.25]),
+          name="calcite_test.a-first")
+    assert MaterialLibrary(tmp_path).datasets("calcite_test") == ["a-first", "b-second"]
+    write(tmp_path, dict(CALCITE, dataset="c-wide", validity_um=[0.25, 2.0]),
+          name="calcite_test.c-wide")
+    assert MaterialLibrary(tmp_path).datasets("calcite_test")[0] == "c-wide"
+
+
 def test_public_names_exported():
     for name in ("material", "materials", "material_datasets", "load_material", "save_material",
                  "fit_dispersion",

@@ -233,7 +233,7 @@ def test_warns_outside_the_dn_dt_range():
     ({"temperature_c": [20.0]}, "at least two different"),
     ({"temperature_c": [20.0, 20.0]}, "at least two different"),
     ({"temperature_c": [20.0, -300.0]}, "above -273.15"),
-    ({"temperature_c": "hot"}, "must be numbers"),
+    ({"temperature_c": "hot"}, "must be a temperature in °C"),
     ({"temperature_c": [20.0, 30.0], "piece": 2}, "piece must be a piece index from 0 to 1"),
     ({"temperature_c": [20.0, 30.0], "wavelength_um": [-1.0]}, "wavelength_um"),
 ])
@@ -297,3 +297,18 @@ def test_a_chunked_sweep_equals_one_trace(calcite_wollaston, monkeypatch):
         calcite_wollaston))
     chunked = temperature_dependence(calcite_wollaston, temps, lam, piece=1)
     assert np.array_equal(whole.split_deg, chunked.split_deg)
+
+
+def test_least_squares_slope_is_the_normal_equation_slope():
+    # Closed form: for y = a + b·x the least-squares slope Σ(x − x̄)(y − ȳ) / Σ(x − x̄)² is b
+    # exactly; a column with a NaN (a lost beam) has no slope. Checked against numpy.polyfit
+    # (a general-purpose reference) on noisy data.
+    from prismdesign.analysis.temperature import least_squares_slope
+    x = np.array([-10.0, 0.0, 25.0, 60.0])
+    y = np.stack([3.0 + 0.5 * x, -2.0 * x, np.where(x > 50, np.nan, x)], axis=-1)
+    slope = least_squares_slope(x, y)
+    np.testing.assert_allclose(slope[:2], [0.5, -2.0], rtol=1e-14)
+    assert np.isnan(slope[2])
+    noisy = 1.0 + 0.3 * x + np.random.default_rng(3).normal(0.0, 0.5, x.size)
+    assert least_squares_slope(x, noisy) == pytest.approx(np.polyfit(x, noisy, 1)[0],
+                                                          rel=1e-12)

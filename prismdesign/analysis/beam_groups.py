@@ -66,9 +66,10 @@ import warnings
 
 import numpy as np
 
-from ..optics import Beam, TraceFlag
+from ..optics import Beam
 from ..optics.tracer import TraceResult
 from ..optics.vectors import dot
+from ._common import LOST_FLAGS
 
 __all__ = ["GROUP_TOLERANCE_RAD", "GROUP_OFFSET_MM", "CIRCULAR_FACTOR", "active_letters", "group_labels",
            "combine_groups", "output_beam_trace", "trace_output_beams", "group_spread_rad",
@@ -85,10 +86,6 @@ CIRCULAR_FACTOR = 2.0
 #: Largest distance (mm) between the exit points of two branches of one output beam, across
 #: their mean direction.
 GROUP_OFFSET_MM = 1e-2
-
-_LOST = (TraceFlag.TOTAL_INTERNAL_REFLECTION | TraceFlag.MISSED_SURFACE
-         | TraceFlag.OUTSIDE_APERTURE | TraceFlag.SINGULAR)
-
 
 def has_active_piece(prism):
     """True when a piece of `prism` is optically active (its material has a hand)."""
@@ -154,7 +151,7 @@ def _linked(a, b, pair):
     """Whether two branches leave together (rule 2 and 3 of the module docstring)."""
     ra, da, _, fa = _geometry(a, pair)
     rb, db, _, fb = _geometry(b, pair)
-    both = ((np.asarray(fa) & _LOST) == 0) & ((np.asarray(fb) & _LOST) == 0)
+    both = ((np.asarray(fa) & LOST_FLAGS) == 0) & ((np.asarray(fb) & LOST_FLAGS) == 0)
     cos = np.clip(dot(da, db), -1.0, 1.0)
     angle = np.arccos(cos)
     mean = da + db

@@ -229,19 +229,12 @@ def _extinction_in_chunks(prism, nominal, wavelength, in_plane, out_of_plane, of
     beams; each chunk is an ordinary call, sized to a quarter of the memory limit.
     """
     count = int(np.prod(shape))
-    size = max(1, memory.MEMORY_LIMIT_BYTES // 4 // per_ray_bytes)
-    flat = [np.broadcast_to(a, shape).reshape(-1) for a in (wavelength, in_plane, out_of_plane)]
-    flat_offset = np.broadcast_to(offset, shape + (2,)).reshape(-1, 2)
-    pair = isinstance(polarisation, str)
-    flat_pol = polarisation if pair else np.broadcast_to(polarisation, shape + (2,)).reshape(-1, 2)
     sampled_nominal = nominal is not None and prism_sample_shape(nominal) != ()
     parts, main = [], options.pop("main_labels")
-    for start in range(0, count, size):
-        stop = min(start + size, count)
+    for start, stop, (lam, a, b, off, pol) in memory.ray_chunks(
+            shape, per_ray_bytes, wavelength, in_plane, out_of_plane, offset, polarisation):
         part = extinction(
-            _flat_prism(prism, shape, start, stop), *(a[start:stop] for a in flat),
-            offset_mm=flat_offset[start:stop],
-            polarisation=flat_pol if pair else flat_pol[start:stop],
+            _flat_prism(prism, shape, start, stop), lam, a, b, offset_mm=off, polarisation=pol,
             nominal=_flat_prism(nominal, shape, start, stop) if sampled_nominal else nominal,
             main_labels=main, **options)
         if start == 0:

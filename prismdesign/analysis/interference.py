@@ -62,12 +62,12 @@ def main_beams(prism, wavelength_um=None):
            else float(np.ravel(check_wavelengths(wavelength_um))[0]))
     result = trace_output_beams(prism, lam, 0.0, 0.0, power_threshold=0.0)
     power = {label: result.power(label) for label in result.beams}
-    lost = {label: lost_codes(np.bitwise_or.reduce(beam.flags, axis=0), power[label])
-            for label, beam in result.beams.items()}
+    # Either member of the incoherent input pair carries the beam's faults.
+    flags = {label: np.bitwise_or.reduce(beam.flags, axis=0)
+             for label, beam in result.beams.items()}
+    lost = {label: lost_codes(flags[label], power[label]) for label in result.beams}
     ranked = rank_beams(power, 2, lost=lost)
     if len(ranked) < 2:
-        flags = {label: np.bitwise_or.reduce(beam.flags, axis=0)
-                 for label, beam in result.beams.items()}
         raise ValueError(missing_pair_reason(f"interference of the {prism.kind} prism at "
                                              f"{lam:g} µm", ranked, lost, power, flags)
                          .replace("the pair figures are NaN", "pass beams=(a, b) to choose"))

@@ -137,6 +137,27 @@ def _flat_prism(prism, shape, start, stop):
                    temperature_c=flat(prism.temperature_c))
 
 
+def ray_chunks(shape, per_ray_bytes, wavelength, in_plane, out_of_plane, offset,
+               polarisation):
+    """Consecutive slices of the flattened rays, each sized to a quarter of
+    :data:`MEMORY_LIMIT_BYTES` at `per_ray_bytes` a ray.
+
+    Yields ``(start, stop, (wavelength, in_plane, out_of_plane, offset, polarisation))``: the
+    inputs broadcast to `shape`, flattened and sliced ``[start:stop]`` (offsets and Jones
+    vectors keep their trailing axis of 2; a polarisation string is passed unchanged).
+    """
+    count = math.prod(shape)
+    size = max(1, MEMORY_LIMIT_BYTES // 4 // per_ray_bytes)
+    flat = [np.broadcast_to(a, shape).reshape(-1) for a in (wavelength, in_plane, out_of_plane)]
+    flat_offset = np.broadcast_to(offset, shape + (2,)).reshape(-1, 2)
+    pair = isinstance(polarisation, str)
+    flat_pol = polarisation if pair else np.broadcast_to(polarisation, shape + (2,)).reshape(-1, 2)
+    for start in range(0, count, size):
+        stop = min(start + size, count)
+        yield start, stop, (*(a[start:stop] for a in flat), flat_offset[start:stop],
+                            flat_pol if pair else flat_pol[start:stop])
+
+
 def map_rays(prism, wavelength, in_plane, out_of_plane, offset, per_ray, *, what,
              polarisation="unpolarised", fill=None, output_beams=True, **trace_options):
     """Trace the rays and reduce each one with `per_ray`, in chunks when memory requires.
@@ -194,17 +215,11 @@ def map_rays(prism, wavelength, in_plane, out_of_plane, offset, per_ray, *, what
     if count * per <= budget:
         return per_ray(prism.trace(wavelength, in_plane, out_of_plane, offset_mm=offset,
                                    polarisation=polarisation, **trace_options), prism)
-    size = max(1, budget // per)
-    flat = [np.broadcast_to(a, shape).reshape(-1) for a in (wavelength, in_plane, out_of_plane)]
-    flat_offset = np.broadcast_to(offset, shape + (2,)).reshape(-1, 2)
-    flat_pol = polarisation if pair else np.broadcast_to(polarisation, shape + (2,)).reshape(-1, 2)
     out = {}
-    for start in range(0, count, size):
-        stop = min(start + size, count)
+    for start, stop, (lam, a, b, off, pol) in ray_chunks(shape, per, wavelength, in_plane,
+                                                         out_of_plane, offset, polarisation):
         chunk = _flat_prism(prism, shape, start, stop)
-        result = per_ray(chunk.trace(*(a[start:stop] for a in flat),
-                                     offset_mm=flat_offset[start:stop],
-                                     polarisation=flat_pol if pair else flat_pol[start:stop],
+        result = per_ray(chunk.trace(lam, a, b, offset_mm=off, polarisation=pol,
                                      **trace_options), chunk)
         if start == 0:
             # The first chunk shows how large the results are: refuse before allocating them.

@@ -15,7 +15,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..prisms.base import check_prism
+from ..prisms.base import check_prism, check_temperature
 from ._common import as_output, check_numbers, shown
 from .deviation import split
 
@@ -99,17 +99,11 @@ def _material_label(material):
 
 
 def _temperatures(value):
-    try:
-        if isinstance(value, (str, bytes)):
-            raise TypeError
-        t = np.asarray(value, dtype=float)
-    except (TypeError, ValueError):
-        raise ValueError(f"temperature_c must be numbers (°C), got {shown(value)}") from None
-    t = np.atleast_1d(t)
-    if t.ndim != 1 or np.unique(t[np.isfinite(t)]).size < 2 or not np.all(np.isfinite(t)) \
-            or np.any(t < -273.15):
-        raise ValueError(f"temperature_c must be one list of at least two different finite "
-                         f"temperatures above -273.15 °C, got {shown(value)}")
+    """`value` as one list of at least two different temperatures (°C)."""
+    t = np.atleast_1d(check_temperature("temperature_c", value))
+    if t.ndim != 1 or np.unique(t).size < 2:
+        raise ValueError(f"temperature_c must be one list of at least two different "
+                         f"temperatures (°C), got {shown(value)}")
     return t
 
 

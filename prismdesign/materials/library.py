@@ -117,10 +117,11 @@ def _key(name: str) -> str:
     return re.sub(r"[\s\-_]+", "", text)
 
 
-def _band_width(item) -> tuple:
-    """Sort key of the default dataset: the widest band of data (µm), then the earlier name."""
+def _band_width(item) -> float:
+    """Sort key of the default dataset: the width of its band of data (µm). Taken with ``max``
+    over the sorted dataset names, so on equal widths the earlier name wins."""
     lo, hi = item.validity_um
-    return (hi - lo, lo)
+    return hi - lo
 
 
 class MaterialLibrary:

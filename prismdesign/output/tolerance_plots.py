@@ -1,16 +1,16 @@
 """Figures of a tolerance analysis: a tornado chart of the errors that matter and a histogram
 of the target figure over built prisms. Each takes results and writes a figure; none computes
-physics."""
+physics. Built without pyplot (:mod:`.files`), so writing them leaves the user's backend alone
+and an existing file is replaced atomically."""
 import numpy as np
+
+from .files import new_figure, save_figure
 
 __all__ = ["plot_tornado", "plot_histogram"]
 
 
 def _save(fig, path):
-    fig.savefig(path, dpi=120)
-    import matplotlib.pyplot as plt
-    plt.close(fig)
-    return path
+    return save_figure(fig, path, dpi=120)
 
 
 def plot_tornado(rows, path, *, title="", count=12):
@@ -29,15 +29,14 @@ def plot_tornado(rows, path, *, title="", count=12):
     count : int
         Number of parameters shown.
     """
-    import matplotlib.pyplot as plt
-
     rows = list(rows)[:count]
     swing = "swing" in (rows[0] if rows else {})
     values = np.array([r["swing"] if swing else abs(r["sensitivity"]) for r in rows])
     signs = np.array([np.sign(r["sensitivity"]) or 1.0 for r in rows])
     labels = [f"{r['parameter']} (±{r['tolerance']:.3g} {r['parameter_unit']})" if swing
               else f"{r['parameter']} (per {r['parameter_unit']})" for r in rows]
-    fig, ax = plt.subplots(figsize=(7.5, 0.45 * len(rows) + 1.9), layout="constrained")
+    fig = new_figure(figsize=(7.5, 0.45 * len(rows) + 1.9), layout="constrained")
+    ax = fig.add_subplot()
     y = np.arange(len(rows))[::-1]
     # Each parameter gets two bars, to first order: the change of the figure for a positive
     # error (solid) and for the same negative error (light, hatched), so the sign of the
@@ -71,12 +70,11 @@ def plot_histogram(result, path, *, target=None, tolerance=None, title=""):
         The requirement's target and allowed deviation (shaded window).
     title : str
     """
-    import matplotlib.pyplot as plt
-
     if result.target_figure is None:
         raise ValueError("this Monte Carlo has no target figure to plot (a polariser)")
     values = result.target_figure
-    fig, ax = plt.subplots(figsize=(7.0, 4.0), layout="constrained")
+    fig = new_figure(figsize=(7.0, 4.0), layout="constrained")
+    ax = fig.add_subplot()
     for i, lam in enumerate(result.wavelength_um):
         column = values[:, i]
         ax.hist(column[np.isfinite(column)], bins=60, histtype="step", lw=1.2,

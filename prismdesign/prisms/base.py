@@ -17,7 +17,7 @@ from ..optics.vectors import as_unit_vectors
 
 __all__ = ["Piece", "Boundary", "Prism", "ideal_antireflection_layer", "check_positive",
            "check_angle", "check_angles", "check_finite", "check_flag", "check_prism",
-           "trace_from_front"]
+           "check_temperature", "trace_from_front"]
 
 
 def _as_float(name, value, what):
@@ -116,7 +116,7 @@ class Piece:
 
         if self.temperature_c is not None:
             object.__setattr__(self, "temperature_c",
-                               _check_temperature("temperature_c", self.temperature_c))
+                               check_temperature("temperature_c", self.temperature_c))
 
     @property
     def is_crystal(self):
@@ -125,7 +125,7 @@ class Piece:
         return self.optic_axis is not None and getattr(self.material, "kind", "") == "uniaxial"
 
 
-def _check_temperature(name, value):
+def check_temperature(name, value):
     """`value` as a float or float array of finite temperatures above absolute zero (°C)."""
     try:
         if isinstance(value, (str, bytes, bool, np.bool_)):
@@ -355,7 +355,7 @@ class Prism:
             Indices follow each material's linear thermo-optic model (materials without one
             warn and keep their data-temperature indices); the geometry does not change.
         """
-        t = _check_temperature("temperature_c", temperature_c)
+        t = check_temperature("temperature_c", temperature_c)
         if piece is None:
             pieces = [replace(p, temperature_c=None) for p in self.pieces]
             return replace(self, pieces=pieces, temperature_c=t)
